@@ -1,0 +1,1 @@
+namespace Decohere; public static class Placeholder {}

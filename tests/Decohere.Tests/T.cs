@@ -1,0 +1,1 @@
+public class T { [Fact] public void A(){} }
