@@ -1,0 +1,89 @@
+using System.CommandLine;
+using Decohere.Diagnostics;
+using Decohere.Engine;
+using Decohere.Units;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary><c>decohere check SCENARIO</c>: validate and print the derived quantities a physicist checks first.</summary>
+public static class CheckCommand
+{
+    /// <summary>Builds the command.</summary>
+    public static Command Create()
+    {
+        var scenario = Cli.ScenarioArgument(optional: false);
+        var command = new Command("check", "Validate a scenario and print couplings, cooperativities, bath occupancies, decoherence rates, stage stability, predicted squeezing and warnings.")
+        {
+            scenario,
+        };
+        command.SetAction((parse, _) => Cli.Guard(() =>
+        {
+            var s = Cli.Load(parse.GetValue(scenario));
+            var dynamics = Dynamics.Solve(s);
+            var report = ScenarioReport.Of(dynamics);
+            Print(report, dynamics);
+            return Task.FromResult(Cli.Ok);
+        }));
+        return command;
+    }
+
+    private static string Hz(double v) => Quantity.Format(v, Dimension.Frequency);
+    private static string Rate(double perSecond) => $"{perSecond:G4} s⁻¹";
+
+    /// <summary>Prints the report as tables.</summary>
+    public static void Print(ScenarioReport report, Dynamics dynamics)
+    {
+        var s = dynamics.Scenario;
+        var o = Cli.Out;
+        o.MarkupLineInterpolated($"[bold]{s.Name}[/]: valid, model {s.Model.ToString().ToLowerInvariant()}, {s.Modes.Length} modes, {s.Stages.Length} stages, {Quantity.Format(s.TotalDurationS, Dimension.Time)} in all");
+
+        var mech = new Table().Title("mechanical modes");
+        foreach (var h in new[] { "mode", "frequency", "linewidth γ/2π", "Q", "bath n_th", "bath T", "γ·n_th", "1/(γ·n_th)" }) mech.AddColumn(h);
+        foreach (var m in report.Mechanical)
+            mech.AddRow(Markup.Escape(m.Mode.Name), Hz(m.Mode.FrequencyHz), Hz(m.Mode.LinewidthHz), m.Mode.QualityFactor.ToString("G3"),
+                m.Occupancy.ToString("G4"), Quantity.Format(m.TemperatureK, Dimension.Temperature), Rate(m.ThermalDecoherenceRate),
+                Quantity.Format(m.ThermalDecoherenceTime, Dimension.Time));
+        o.Write(mech);
+
+        if (report.Tones.Length > 0)
+        {
+            var tones = new Table().Title("drive tones");
+            foreach (var h in new[] { "stage", "cavity", "mechanical", "sideband", "G/2π", "G", "cooperativity C", "κ/ω_m" }) tones.AddColumn(h);
+            foreach (var t in report.Tones)
+                tones.AddRow(Markup.Escape(t.Stage), Markup.Escape(t.Tone.Cavity), Markup.Escape(t.Tone.Mechanical), t.Tone.Sideband.ToString().ToLowerInvariant(),
+                    Hz(t.Tone.CouplingHz), Rate(t.CouplingRate), t.Cooperativity.ToString("G4"), t.SidebandResolution.ToString("G3"));
+            o.Write(tones);
+        }
+
+        var stages = new Table().Title("stages");
+        foreach (var h in new[] { "stage", "duration", "stability", "rate", "steady var_min", "steady squeezing" }) stages.AddColumn(h);
+        foreach (var st in report.Stages)
+        {
+            string varMin = "", db = "";
+            if (st.SteadyState is { } ss)
+            {
+                var mechanical = ss.ModeNames.Select((n, j) => (n, j)).Where(p => s.ModeNamed(p.n).Kind == Scenarios.ModeKind.Mechanical).ToArray();
+                varMin = string.Join(", ", mechanical.Select(p => $"{p.n}: {ss.Moments(p.j).VarMin:G4}"));
+                db = string.Join(", ", mechanical.Select(p => $"{p.n}: {ss.Moments(p.j).SqueezingDb:F2} dB"));
+            }
+            stages.AddRow(Markup.Escape(st.Stage.Name), Quantity.Format(st.Stage.DurationS, Dimension.Time),
+                st.Stability.IsStable ? "[green]stable[/]" : "[red]unstable (amplifies)[/]",
+                st.Stability.IsStable ? $"slowest decay {Rate(st.Stability.SlowestDecayRate)}" : $"growth {Rate(st.Stability.GrowthRate)}",
+                Markup.Escape(varMin), Markup.Escape(db));
+        }
+        o.Write(stages);
+
+        if (report.TwoTone.Length > 0)
+        {
+            var two = new Table().Title("two-tone squeezing, predicted steady state");
+            foreach (var h in new[] { "stage", "mechanical", "r", "Γ", "var_min (bad cavity)", "dB", "var_min (cavity kept)", "dB" }) two.AddColumn(h);
+            foreach (var t in report.TwoTone)
+                two.AddRow(Markup.Escape(t.Stage), Markup.Escape(t.Mechanical), t.SqueezingParameter.ToString("F3"), Rate(t.DampingRate),
+                    t.VarMinBadCavity.ToString("G4"), t.SqueezingDbBadCavity.ToString("F2"), t.VarMinCavityKept.ToString("G4"), t.SqueezingDbCavityKept.ToString("F2"));
+            o.Write(two);
+        }
+        Cli.Warnings(report.Warnings);
+        if (report.Warnings.Length == 0) o.MarkupLine("[green]no warnings[/]");
+    }
+}

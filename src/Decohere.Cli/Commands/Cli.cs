@@ -1,0 +1,101 @@
+using System.CommandLine;
+using Decohere;
+using Decohere.Numerics;
+using Decohere.Scenarios;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary>Exit codes, shared options and error reporting of every command.</summary>
+public static class Cli
+{
+    /// <summary>Success.</summary>
+    public const int Ok = 0;
+    /// <summary>Any failure that is not the user's input.</summary>
+    public const int Failure = 1;
+    /// <summary>Bad input: scenario, data file or command line.</summary>
+    public const int BadInput = 2;
+
+    /// <summary>The console for tables and messages (stdout).</summary>
+    public static IAnsiConsole Out { get; set; } = AnsiConsole.Console;
+
+    /// <summary>The console for errors and progress (stderr).</summary>
+    public static IAnsiConsole Error { get; set; } = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) });
+
+    /// <summary>Parses and runs; command-line errors exit with <see cref="BadInput"/>.</summary>
+    public static async Task<int> InvokeAsync(RootCommand root, string[] args)
+    {
+        var parse = root.Parse(args);
+        if (parse.Errors.Count > 0)
+        {
+            foreach (var error in parse.Errors) Error.MarkupLineInterpolated($"[red]error:[/] {error.Message}");
+            Error.MarkupLine("Run with --help for usage.");
+            return BadInput;
+        }
+        return await parse.InvokeAsync();
+    }
+
+    /// <summary>The optional scenario argument; without it the built-in demo runs.</summary>
+    public static Argument<FileInfo?> ScenarioArgument(bool optional) => new("scenario")
+    {
+        Description = optional ? "Scenario file (YAML). Without it, the built-in demo scenario." : "Scenario file (YAML).",
+        Arity = optional ? ArgumentArity.ZeroOrOne : ArgumentArity.ExactlyOne,
+    };
+
+    /// <summary>--out DIR.</summary>
+    public static Option<DirectoryInfo?> OutOption() => new("--out")
+    {
+        Description = "Output directory (default: results/<scenario name>/).",
+    };
+
+    /// <summary>--quiet.</summary>
+    public static Option<bool> QuietOption() => new("--quiet", "-q") { Description = "Print only errors and the paths written." };
+
+    /// <summary>Loads the scenario file, or the demo when none is given.</summary>
+    public static Scenario Load(FileInfo? file) => file is null ? ScenarioLoader.Demo() : ScenarioLoader.Load(file.FullName);
+
+    /// <summary>The output directory for a scenario.</summary>
+    public static string OutputDirectory(DirectoryInfo? option, Scenario scenario) =>
+        option?.FullName ?? Path.Combine("results", scenario.Name);
+
+    /// <summary>Runs a command body, turning the library's exceptions into messages and exit codes.</summary>
+    public static async Task<int> Guard(Func<Task<int>> body)
+    {
+        try
+        {
+            return await body();
+        }
+        catch (ScenarioException e)
+        {
+            Error.MarkupLineInterpolated($"[red]error:[/] {e.SourceName}: {e.Problems.Count} problem{(e.Problems.Count == 1 ? "" : "s")}");
+            foreach (var p in e.Problems) Error.WriteLine("  " + p);
+            return BadInput;
+        }
+        catch (InputException e)
+        {
+            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            return BadInput;
+        }
+        catch (UnstableDynamicsException e)
+        {
+            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            return BadInput;
+        }
+        catch (OperationCanceledException)
+        {
+            Error.MarkupLine("[yellow]stopped:[/] no partial output was kept.");
+            return Failure;
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            return Failure;
+        }
+    }
+
+    /// <summary>Prints warnings in yellow.</summary>
+    public static void Warnings(IEnumerable<string> warnings)
+    {
+        foreach (var w in warnings) Out.MarkupLineInterpolated($"[yellow]warning:[/] {w}");
+    }
+}

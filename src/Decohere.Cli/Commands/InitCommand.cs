@@ -1,0 +1,28 @@
+using System.CommandLine;
+using Decohere.Output;
+using Decohere.Scenarios;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary><c>decohere init [FILE] [--force]</c>: write the annotated demo scenario to edit.</summary>
+public static class InitCommand
+{
+    /// <summary>Builds the command.</summary>
+    public static Command Create()
+    {
+        var file = new Argument<FileInfo?>("file") { Description = "Where to write the scenario (default: scenario.yaml).", Arity = ArgumentArity.ZeroOrOne };
+        var force = new Option<bool>("--force") { Description = "Overwrite an existing file." };
+        var command = new Command("init", "Write the annotated demo scenario to a file to edit.") { file, force };
+        command.SetAction((parse, _) => Cli.Guard(() =>
+        {
+            string path = parse.GetValue(file)?.FullName ?? "scenario.yaml";
+            if (File.Exists(path) && !parse.GetValue(force))
+                throw new InputException($"{path} exists; pass --force to overwrite it");
+            AtomicFile.WriteAllText(path, ScenarioLoader.DemoText);
+            Cli.Out.WriteLine(path);
+            return Task.FromResult(Cli.Ok);
+        }));
+        return command;
+    }
+}

@@ -1,0 +1,99 @@
+using System.Collections.Immutable;
+using System.Numerics;
+using Decohere.Scenarios;
+
+namespace Decohere.Model;
+
+/// <summary>Builds the linear model of one stage of a scenario, in the frame rotating at each mode's frequency (rotating-wave approximation).</summary>
+public static class ModelBuilder
+{
+    /// <summary>The modes kept in the state vector: all of them (full) or the mechanical ones (effective).</summary>
+    public static ImmutableArray<Mode> StateModes(Scenario scenario) => scenario.Model == ModelKind.Full
+        ? scenario.Modes
+        : [.. scenario.Modes.Where(m => m.Kind == ModeKind.Mechanical)];
+
+    /// <summary>The drift and diffusion of a stage.</summary>
+    public static LinearModel Build(Scenario scenario, Stage stage)
+    {
+        var modes = StateModes(scenario);
+        var index = modes.Select((m, i) => (m.Name, i)).ToDictionary(p => p.Name, p => p.i);
+        var system = new QuadraticSystem(modes.Select(m => m.Name));
+
+        foreach (var mode in modes)
+        {
+            int j = index[mode.Name];
+            system.AddDamping(j, mode.DecayRate, scenario.BathOf(mode, stage).Occupancy);
+            if (stage.DetuningsHz.TryGetValue(mode.Name, out double delta))
+                system.AddDetuning(j, Units.Physics.Angular(delta));
+        }
+        foreach (var c in scenario.Couplings)
+        {
+            double g = Units.Physics.Angular(c.RateHz);
+            if (c.Kind == CouplingKind.BeamSplitter) system.AddBeamSplitter(index[c.ModeA], index[c.ModeB], g);
+            else system.AddTwoModeSqueezing(index[c.ModeA], index[c.ModeB], g);
+        }
+
+        if (scenario.Model == ModelKind.Full)
+        {
+            foreach (var tone in stage.Tones)
+            {
+                double g = Units.Physics.Angular(tone.CouplingHz);
+                // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
+                if (tone.Sideband == Sideband.Red) system.AddBeamSplitter(index[tone.Cavity], index[tone.Mechanical], g);
+                else system.AddTwoModeSqueezing(index[tone.Cavity], index[tone.Mechanical], g);
+            }
+        }
+        else
+        {
+            AddEliminatedCavities(scenario, stage, system, index);
+        }
+        return system.ToLinearModel();
+    }
+
+    /// <summary>
+    /// Adiabatic elimination of each driven cavity: jump J = (2/√κ)(Σ_red G₋ b + Σ_blue G₊ b†) as √(n_c+1)·J and √n_c·J†
+    /// (collective when one cavity addresses several modes). With sideband corrections each tone also scatters off
+    /// resonance at A = G²κ/((κ/2)² + (2ω_m)²) (F. Marquardt et al., Phys. Rev. Lett. 99, 093902 (2007)).
+    /// </summary>
+    private static void AddEliminatedCavities(Scenario scenario, Stage stage, QuadraticSystem system, Dictionary<string, int> index)
+    {
+        foreach (var group in stage.Tones.GroupBy(t => t.Cavity))
+        {
+            var cavity = scenario.ModeNamed(group.Key);
+            double kappa = cavity.DecayRate;
+            double nc = scenario.BathOf(cavity, stage).Occupancy;
+            var terms = group.Select(t =>
+            {
+                double g = 2 * Units.Physics.Angular(t.CouplingHz) / Math.Sqrt(kappa);
+                return t.Sideband == Sideband.Red
+                    ? (index[t.Mechanical], (Complex)g, Complex.Zero)
+                    : (index[t.Mechanical], Complex.Zero, (Complex)g);
+            }).ToArray();
+            system.AddJump(terms.Select(t => (t.Item1, t.Item2 * Math.Sqrt(nc + 1), t.Item3 * Math.Sqrt(nc + 1))).ToArray());
+            if (nc > 0)
+                system.AddJump(terms.Select(t => (t.Item1, Complex.Conjugate(t.Item3) * Math.Sqrt(nc), Complex.Conjugate(t.Item2) * Math.Sqrt(nc))).ToArray());
+
+            if (!scenario.SidebandCorrections) continue;
+            foreach (var tone in group)
+            {
+                var mech = scenario.ModeNamed(tone.Mechanical);
+                double g = Units.Physics.Angular(tone.CouplingHz);
+                double omegaM = mech.AngularFrequency;
+                double rate = g * g * kappa / (kappa * kappa / 4 + 4 * omegaM * omegaM);
+                int j = index[tone.Mechanical];
+                // The off-resonant process raises the mode for a red tone and lowers it for a blue one.
+                Complex up = Math.Sqrt(rate * (nc + 1)), down = Math.Sqrt(rate * nc);
+                if (tone.Sideband == Sideband.Red)
+                {
+                    system.AddJump((j, Complex.Zero, up));
+                    if (nc > 0) system.AddJump((j, down, Complex.Zero));
+                }
+                else
+                {
+                    system.AddJump((j, up, Complex.Zero));
+                    if (nc > 0) system.AddJump((j, Complex.Zero, down));
+                }
+            }
+        }
+    }
+}

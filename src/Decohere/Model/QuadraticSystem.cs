@@ -1,0 +1,109 @@
+using System.Collections.Immutable;
+using System.Numerics;
+using MathNet.Numerics.LinearAlgebra;
+
+namespace Decohere.Model;
+
+/// <summary>
+/// A quadratic Hamiltonian H = ½ Rᵀ𝐇R and linear jump operators L_k = c_kᵀR, mapped to the drift and
+/// diffusion of the Gaussian moments: A = Ω(𝐇 + Im C), D = Ω (Re C) Ωᵀ, C = Σ_k c_k* c_kᵀ
+/// (A. Serafini, Quantum Continuous Variables, CRC Press 2017, ch. 5). Every model goes through this one map,
+/// so a new coupling is one Hamiltonian or jump term.
+/// </summary>
+public sealed class QuadraticSystem
+{
+    private readonly Matrix<double> _hamiltonian;
+    private readonly Matrix<Complex> _jumpSum;
+    private readonly ImmutableArray<string> _modes;
+
+    /// <summary>An empty system over the given modes (state-vector order).</summary>
+    public QuadraticSystem(IEnumerable<string> modes)
+    {
+        _modes = [.. modes];
+        int n = 2 * _modes.Length;
+        _hamiltonian = Matrix<double>.Build.Dense(n, n);
+        _jumpSum = Matrix<Complex>.Build.Dense(n, n);
+    }
+
+    /// <summary>Number of modes.</summary>
+    public int ModeCount => _modes.Length;
+
+    /// <summary>Rotating-frame detuning δ a†a → 𝐇 block δ·I (δ in s⁻¹).</summary>
+    public QuadraticSystem AddDetuning(int mode, double delta)
+    {
+        _hamiltonian[2 * mode, 2 * mode] += delta;
+        _hamiltonian[2 * mode + 1, 2 * mode + 1] += delta;
+        return this;
+    }
+
+    /// <summary>Beam splitter G(a†b + a b†) = G(x_a x_b + p_a p_b).</summary>
+    public QuadraticSystem AddBeamSplitter(int a, int b, double g) => AddBilinear(a, b, g, g);
+
+    /// <summary>Two-mode squeezing G(a†b† + a b) = G(x_a x_b − p_a p_b).</summary>
+    public QuadraticSystem AddTwoModeSqueezing(int a, int b, double g) => AddBilinear(a, b, g, -g);
+
+    private QuadraticSystem AddBilinear(int a, int b, double xx, double pp)
+    {
+        _hamiltonian[2 * a, 2 * b] += xx;
+        _hamiltonian[2 * b, 2 * a] += xx;
+        _hamiltonian[2 * a + 1, 2 * b + 1] += pp;
+        _hamiltonian[2 * b + 1, 2 * a + 1] += pp;
+        return this;
+    }
+
+    /// <summary>
+    /// A jump operator L = Σ_j (α_j a_j + β_j a_j†), given per mode as (mode, α, β).
+    /// With a = (x + i p)/√2 its coefficient vector is c = ((α+β)/√2, i(α−β)/√2) per mode.
+    /// </summary>
+    public QuadraticSystem AddJump(params (int Mode, Complex Alpha, Complex Beta)[] terms)
+    {
+        int n = 2 * _modes.Length;
+        var c = new Complex[n];
+        foreach (var (mode, alpha, beta) in terms)
+        {
+            c[2 * mode] += (alpha + beta) / Math.Sqrt(2);
+            c[2 * mode + 1] += Complex.ImaginaryOne * (alpha - beta) / Math.Sqrt(2);
+        }
+        for (int k = 0; k < n; k++)
+        {
+            if (c[k] == Complex.Zero) continue;
+            var ck = Complex.Conjugate(c[k]);
+            for (int l = 0; l < n; l++) _jumpSum[k, l] += ck * c[l];
+        }
+        return this;
+    }
+
+    /// <summary>Energy damping at rate γ into a bath of occupancy n: L₁ = √(γ(n+1)) a, L₂ = √(γn) a†.</summary>
+    public QuadraticSystem AddDamping(int mode, double rate, double occupancy)
+    {
+        if (rate == 0) return this;
+        AddJump((mode, Math.Sqrt(rate * (occupancy + 1)), Complex.Zero));
+        if (occupancy > 0) AddJump((mode, Complex.Zero, Math.Sqrt(rate * occupancy)));
+        return this;
+    }
+
+    /// <summary>The drift A and diffusion D of this system.</summary>
+    public LinearModel ToLinearModel()
+    {
+        int n = 2 * _modes.Length;
+        var omega = Symplectic(_modes.Length);
+        var imC = Matrix<double>.Build.Dense(n, n, (i, j) => _jumpSum[i, j].Imaginary);
+        var reC = Matrix<double>.Build.Dense(n, n, (i, j) => _jumpSum[i, j].Real);
+        var drift = omega * (_hamiltonian + imC);
+        var diffusion = omega * reC * omega.Transpose();
+        diffusion = (diffusion + diffusion.Transpose()) * 0.5;
+        return new LinearModel(drift, diffusion, _modes);
+    }
+
+    /// <summary>Ω = ⊕_j [[0, 1], [−1, 0]], so that [R_k, R_l] = iΩ_kl.</summary>
+    public static Matrix<double> Symplectic(int modes)
+    {
+        var omega = Matrix<double>.Build.Dense(2 * modes, 2 * modes);
+        for (int j = 0; j < modes; j++)
+        {
+            omega[2 * j, 2 * j + 1] = 1;
+            omega[2 * j + 1, 2 * j] = -1;
+        }
+        return omega;
+    }
+}

@@ -1,0 +1,443 @@
+using System.Collections.Immutable;
+using System.Reflection;
+using System.Security.Cryptography;
+using System.Text;
+using Decohere.Units;
+using YamlDotNet.Core;
+using YamlDotNet.RepresentationModel;
+
+namespace Decohere.Scenarios;
+
+/// <summary>
+/// Turns scenario YAML (format v1) into a validated <see cref="Scenario"/>. Every problem in the file is
+/// collected and reported at once, each with its path, line and column.
+/// </summary>
+public static class ScenarioLoader
+{
+    /// <summary>The built-in demo scenario's text (identical to scenarios/demo.yaml).</summary>
+    public static string DemoText
+    {
+        get
+        {
+            using var stream = Assembly.GetExecutingAssembly().GetManifestResourceStream("Decohere.demo.yaml")
+                ?? throw new InvalidOperationException("demo scenario resource is missing from the build");
+            using var reader = new StreamReader(stream);
+            return reader.ReadToEnd();
+        }
+    }
+
+    /// <summary>The built-in demo scenario.</summary>
+    public static Scenario Demo() => Parse(DemoText, "demo.yaml");
+
+    /// <summary>Loads and validates a scenario file.</summary>
+    /// <exception cref="ScenarioException">The file does not validate; every problem is listed.</exception>
+    public static Scenario Load(string path)
+    {
+        if (!File.Exists(path))
+            throw new ScenarioException(path, [new ScenarioProblem(path, 0, 0, "file not found")]);
+        return Parse(File.ReadAllText(path), path);
+    }
+
+    /// <summary>Validates scenario text; <paramref name="source"/> labels the problems.</summary>
+    /// <exception cref="ScenarioException">The text does not validate; every problem is listed.</exception>
+    public static Scenario Parse(string text, string source = "scenario")
+    {
+        YamlMappingNode root;
+        try
+        {
+            var stream = new YamlStream();
+            stream.Load(new StringReader(text));
+            if (stream.Documents.Count == 0 || stream.Documents[0].RootNode is not YamlMappingNode map)
+                throw new ScenarioException(source, [new ScenarioProblem("(file)", 1, 1, "the file is not a YAML mapping of scenario fields")]);
+            root = map;
+        }
+        catch (YamlException e)
+        {
+            string message = (e.InnerException?.Message ?? e.Message).Split(['\n'])[0];
+            throw new ScenarioException(source, [new ScenarioProblem("(yaml)", (int)e.Start.Line, (int)e.Start.Column, $"malformed YAML: {message}")]);
+        }
+        var builder = new Builder(text);
+        var scenario = builder.Build(root);
+        if (builder.Reader.Problems.Count > 0 || scenario is null)
+            throw new ScenarioException(source, builder.Reader.Problems.OrderBy(p => p.Line).ThenBy(p => p.Column).ToList());
+        return scenario;
+    }
+
+    /// <summary>SHA-256 of the scenario text, lower-case hex.</summary>
+    public static string Hash(string text) => Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(text)));
+
+    private sealed class Builder(string text)
+    {
+        public YamlReader Reader { get; } = new();
+
+        private static readonly string[] TopKeys =
+            ["name", "model", "sideband_corrections", "modes", "couplings", "initial", "stages", "readout", "jitter", "output", "seed"];
+
+        public Scenario? Build(YamlMappingNode root)
+        {
+            var r = Reader;
+            r.Mapping(root, "", TopKeys);
+            string? name = r.String(r.Required(root, "", "name", "scenario name"), "name");
+            ModelKind model = r.Enum(YamlReader.Get(root, "model"), "model", ("full", ModelKind.Full), ("effective", ModelKind.Effective)) ?? ModelKind.Full;
+            bool corrections = r.Bool(YamlReader.Get(root, "sideband_corrections"), "sideband_corrections") ?? false;
+            if (corrections && model == ModelKind.Full)
+                r.Report("sideband_corrections", YamlReader.Get(root, "sideband_corrections"),
+                    "off-resonant sideband rates are an option of model: effective (the full model keeps the cavity in the rotating-wave approximation)");
+
+            var modes = Modes(r.Required(root, "", "modes", "map of mode name to mode"));
+            var byName = modes.ToDictionary(m => m.Name);
+            var couplings = Couplings(YamlReader.Get(root, "couplings"), byName, model);
+            var initial = Initials(YamlReader.Get(root, "initial"), byName);
+            var stages = Stages(r.Required(root, "", "stages", "list of stages"), byName, model);
+            var readout = ReadoutOf(YamlReader.Get(root, "readout"), byName, stages);
+            var jitter = JitterOf(YamlReader.Get(root, "jitter"), byName);
+
+            double total = stages.Sum(s => s.DurationS);
+            var outputMap = r.Mapping(YamlReader.Get(root, "output"), "output", "step");
+            double step = r.Number(YamlReader.Get(outputMap, "step"), "output.step", Dimension.Time, 0, minExclusive: true)
+                          ?? (total > 0 ? total / 1000 : 1e-6);
+            if (total > 0 && total / step > 5e7)
+                r.Report("output.step", YamlReader.Get(outputMap, "step"), $"gives {total / step:G3} output times; use a step of at least {total / 5e7:G3} s");
+            long seed = r.Integer(YamlReader.Get(root, "seed"), "seed", 0) ?? 1;
+
+            if (name is null || r.Problems.Count > 0) return null;
+            return new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
+                step, seed, text, Hash(text));
+        }
+
+        private ImmutableArray<Mode> Modes(YamlNode? node)
+        {
+            var r = Reader;
+            var map = r.NamedMapping(node, "modes");
+            var result = ImmutableArray.CreateBuilder<Mode>();
+            if (map is null) return result.ToImmutable();
+            if (map.Children.Count == 0) r.Report("modes", map, "at least one mode is needed");
+            foreach (var (keyNode, value) in map.Children)
+            {
+                string name = ((YamlScalarNode)keyNode).Value ?? "";
+                string path = $"modes.{name}";
+                var m = r.Mapping(value, path, "kind", "frequency", "linewidth", "quality_factor", "bath");
+                if (m is null) continue;
+                ModeKind? kind = r.Enum(r.Required(m, path, "kind", "mechanical | cavity"), path + ".kind",
+                    ("mechanical", ModeKind.Mechanical), ("cavity", ModeKind.Cavity));
+                double? f = r.Number(r.Required(m, path, "frequency", "a frequency, e.g. 4.1 MHz"), path + ".frequency", Dimension.Frequency, 0, minExclusive: true);
+                double? linewidth = null;
+                var lw = YamlReader.Get(m, "linewidth");
+                var qf = YamlReader.Get(m, "quality_factor");
+                if (lw is not null && qf is not null)
+                    r.Report(path, m, "give either linewidth or quality_factor, not both");
+                else if (lw is not null)
+                    linewidth = r.Number(lw, path + ".linewidth", Dimension.Frequency, 0, minExclusive: true);
+                else if (qf is not null)
+                {
+                    double? q = r.Number(qf, path + ".quality_factor", Dimension.Dimensionless, 0, minExclusive: true);
+                    if (q is not null && f is not null) linewidth = f / q;
+                }
+                else
+                    r.Report(path + ".linewidth", m, "missing field 'linewidth' (energy decay rate / 2π, e.g. 0.15 Hz) or 'quality_factor'");
+
+                Bath? bath;
+                var bathNode = YamlReader.Get(m, "bath");
+                if (bathNode is null && kind == ModeKind.Cavity) bath = new Bath(0);
+                else bath = BathOf(r.Required(m, path, "bath", "{ temperature: 15 mK } or { occupancy: 320 }"), path + ".bath", f);
+
+                if (kind is not null && f is not null && linewidth is not null && bath is not null)
+                    result.Add(new Mode(name, kind.Value, f.Value, linewidth.Value, bath));
+            }
+            return result.ToImmutable();
+        }
+
+        private Bath? BathOf(YamlNode? node, string path, double? frequencyHz)
+        {
+            var r = Reader;
+            var m = r.Mapping(node, path, "temperature", "occupancy");
+            if (m is null) return null;
+            var t = YamlReader.Get(m, "temperature");
+            var n = YamlReader.Get(m, "occupancy");
+            if ((t is null) == (n is null))
+            {
+                r.Report(path, m, "give exactly one of temperature or occupancy");
+                return null;
+            }
+            if (n is not null)
+            {
+                double? occ = r.Number(n, path + ".occupancy", Dimension.Dimensionless, 0);
+                return occ is null ? null : new Bath(occ.Value);
+            }
+            double? kelvin = r.Number(t, path + ".temperature", Dimension.Temperature, 0);
+            if (kelvin is null || frequencyHz is null) return null;
+            return new Bath(Physics.Occupancy(frequencyHz.Value, kelvin.Value), kelvin.Value);
+        }
+
+        private Mode? ModeRef(YamlNode? node, string path, Dictionary<string, Mode> modes, ModeKind? required)
+        {
+            string? name = Reader.String(node, path);
+            if (name is null) return null;
+            if (!modes.TryGetValue(name, out var mode))
+            {
+                string valid = required is null ? string.Join(", ", modes.Keys)
+                    : string.Join(", ", modes.Values.Where(x => x.Kind == required).Select(x => x.Name));
+                Reader.Report(path, node, $"unknown mode '{name}'{YamlReader.Suggest(name, modes.Keys)}; modes{(required is null ? "" : $" of kind {Kind(required.Value)}")}: {valid}");
+                return null;
+            }
+            if (required is not null && mode.Kind != required)
+            {
+                Reader.Report(path, node, $"mode '{name}' is {Kind(mode.Kind)}, expected a {Kind(required.Value)} mode");
+                return null;
+            }
+            return mode;
+        }
+
+        private static readonly Dictionary<YamlNode, YamlNode> Empty = [];
+
+        private static string Kind(ModeKind k) => k == ModeKind.Mechanical ? "mechanical" : "cavity";
+
+        private ImmutableArray<StaticCoupling> Couplings(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
+        {
+            var r = Reader;
+            var result = ImmutableArray.CreateBuilder<StaticCoupling>();
+            var seq = r.Sequence(node, "couplings");
+            if (seq is null) return result.ToImmutable();
+            for (int i = 0; i < seq.Children.Count; i++)
+            {
+                string path = $"couplings[{i}]";
+                var m = r.Mapping(seq.Children[i], path, "modes", "kind", "rate");
+                if (m is null) continue;
+                var pair = r.Sequence(r.Required(m, path, "modes", "two mode names, e.g. [a, b]"), path + ".modes");
+                Mode? a = null, b = null;
+                if (pair is not null)
+                {
+                    if (pair.Children.Count != 2) r.Report(path + ".modes", pair, $"expected exactly two mode names, got {pair.Children.Count}");
+                    else
+                    {
+                        a = ModeRef(pair.Children[0], path + ".modes[0]", modes, null);
+                        b = ModeRef(pair.Children[1], path + ".modes[1]", modes, null);
+                        if (a is not null && a == b) r.Report(path + ".modes", pair, "a coupling needs two different modes");
+                    }
+                }
+                CouplingKind? kind = r.Enum(r.Required(m, path, "kind", "beam-splitter | two-mode-squeezing"), path + ".kind",
+                    ("beam-splitter", CouplingKind.BeamSplitter), ("two-mode-squeezing", CouplingKind.TwoModeSqueezing));
+                double? rate = r.Number(r.Required(m, path, "rate", "a frequency, e.g. 1 MHz"), path + ".rate", Dimension.Frequency, 0);
+                if (model == ModelKind.Effective && (a?.Kind == ModeKind.Cavity || b?.Kind == ModeKind.Cavity))
+                    r.Report(path, m, "the effective model eliminates cavities, so a static coupling may join only mechanical modes; use model: full");
+                if (a is not null && b is not null && a != b && kind is not null && rate is not null)
+                    result.Add(new StaticCoupling(a.Name, b.Name, kind.Value, rate.Value));
+            }
+            return result.ToImmutable();
+        }
+
+        private ImmutableDictionary<string, InitialState> Initials(YamlNode? node, Dictionary<string, Mode> modes)
+        {
+            var r = Reader;
+            var result = ImmutableDictionary.CreateBuilder<string, InitialState>();
+            var map = r.NamedMapping(node, "initial");
+            if (map is null) return result.ToImmutable();
+            foreach (var (keyNode, value) in map.Children)
+            {
+                string name = ((YamlScalarNode)keyNode).Value ?? "";
+                string path = $"initial.{name}";
+                var mode = ModeRef(keyNode, path, modes, null);
+                var m = r.Mapping(value, path, "state", "occupancy", "squeezing_db", "angle", "x", "p");
+                if (m is null) continue;
+                var stateNode = r.Required(m, path, "state", "ground | thermal | squeezed | coherent | steady");
+                string? state = r.String(stateNode, path + ".state");
+                string[] states = ["ground", "thermal", "squeezed", "coherent", "steady"];
+                if (state is not null && !states.Contains(state))
+                {
+                    r.Report(path + ".state", stateNode, $"'{state}' is not allowed{YamlReader.Suggest(state, states)}; allowed: {string.Join(" | ", states)}");
+                    state = null;
+                }
+                string[] allowed = state switch
+                {
+                    "thermal" => ["state", "occupancy"],
+                    "squeezed" => ["state", "squeezing_db", "angle"],
+                    "coherent" => ["state", "x", "p"],
+                    _ => ["state"],
+                };
+                foreach (var key in m.Children.Keys.OfType<YamlScalarNode>())
+                    if (state is not null && !allowed.Contains(key.Value))
+                        r.Report($"{path}.{key.Value}", key, $"'{key.Value}' does not apply to state {state}; allowed: {string.Join(", ", allowed)}");
+                InitialState? initial = state switch
+                {
+                    "ground" => new InitialState.Ground(),
+                    "steady" => new InitialState.Steady(),
+                    "thermal" => r.Number(r.Required(m, path, "occupancy", "quanta"), path + ".occupancy", Dimension.Dimensionless, 0) is { } n
+                        ? new InitialState.Thermal(n) : null,
+                    "squeezed" => r.Number(r.Required(m, path, "squeezing_db", "e.g. 5 dB"), path + ".squeezing_db", Dimension.Decibel, 0, max: 60) is { } db
+                        ? new InitialState.Squeezed(db, r.Number(YamlReader.Get(m, "angle"), path + ".angle", Dimension.Angle) ?? 0) : null,
+                    "coherent" => new InitialState.Coherent(
+                        r.Number(YamlReader.Get(m, "x"), path + ".x", Dimension.Dimensionless) ?? 0,
+                        r.Number(YamlReader.Get(m, "p"), path + ".p", Dimension.Dimensionless) ?? 0),
+                    _ => null,
+                };
+                if (mode is not null && initial is not null) result[mode.Name] = initial;
+            }
+            return result.ToImmutable();
+        }
+
+        private ImmutableArray<Stage> Stages(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
+        {
+            var r = Reader;
+            var result = ImmutableArray.CreateBuilder<Stage>();
+            var seq = r.Sequence(node, "stages");
+            if (seq is null) return result.ToImmutable();
+            if (seq.Children.Count == 0) r.Report("stages", seq, "the stage list is empty; at least one stage is needed");
+            var names = new HashSet<string>();
+            for (int i = 0; i < seq.Children.Count; i++)
+            {
+                string path = $"stages[{i}]";
+                var m = r.Mapping(seq.Children[i], path, "name", "duration", "tones", "bath", "detuning");
+                if (m is null) continue;
+                string? name = r.String(r.Required(m, path, "name", "stage name"), path + ".name");
+                if (name is not null && !names.Add(name))
+                    r.Report(path + ".name", YamlReader.Get(m, "name"), $"duplicate stage name '{name}'");
+                double? duration = r.Number(r.Required(m, path, "duration", "a time, e.g. 1 ms"), path + ".duration", Dimension.Time, 0, minExclusive: true);
+
+                var tones = ImmutableArray.CreateBuilder<Tone>();
+                var toneSeq = r.Sequence(YamlReader.Get(m, "tones"), path + ".tones");
+                for (int k = 0; toneSeq is not null && k < toneSeq.Children.Count; k++)
+                    if (ToneOf(toneSeq.Children[k], $"{path}.tones[{k}]", modes) is { } tone) tones.Add(tone);
+
+                var baths = ImmutableDictionary.CreateBuilder<string, Bath>();
+                var bathMap = r.NamedMapping(YamlReader.Get(m, "bath"), path + ".bath");
+                foreach (var (keyNode, value) in bathMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                {
+                    var mode = ModeRef(keyNode, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", modes, null);
+                    if (BathOf(value, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", mode?.FrequencyHz) is { } b && mode is not null)
+                        baths[mode.Name] = b;
+                }
+                var detunings = ImmutableDictionary.CreateBuilder<string, double>();
+                var detMap = r.NamedMapping(YamlReader.Get(m, "detuning"), path + ".detuning");
+                foreach (var (keyNode, value) in detMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                {
+                    string p = $"{path}.detuning.{((YamlScalarNode)keyNode).Value}";
+                    var mode = ModeRef(keyNode, p, modes, null);
+                    if (mode?.Kind == ModeKind.Cavity && model == ModelKind.Effective)
+                        r.Report(p, keyNode, "the effective model eliminates cavities at the sideband resonance; a cavity detuning needs model: full");
+                    if (r.Number(value, p, Dimension.Frequency) is { } d && mode is not null) detunings[mode.Name] = d;
+                }
+                if (name is not null && duration is not null)
+                    result.Add(new Stage(name, duration.Value, tones.ToImmutable(), baths.ToImmutable(), detunings.ToImmutable()));
+            }
+            return result.ToImmutable();
+        }
+
+        private Tone? ToneOf(YamlNode node, string path, Dictionary<string, Mode> modes)
+        {
+            var r = Reader;
+            var m = r.Mapping(node, path, "cavity", "mechanical", "sideband", "coupling", "g0", "photons", "cooperativity");
+            if (m is null) return null;
+            var cavity = ModeRef(r.Required(m, path, "cavity", "name of a cavity mode"), path + ".cavity", modes, ModeKind.Cavity);
+            var mech = ModeRef(r.Required(m, path, "mechanical", "name of a mechanical mode"), path + ".mechanical", modes, ModeKind.Mechanical);
+            Sideband? sideband = r.Enum(r.Required(m, path, "sideband", "red | blue"), path + ".sideband", ("red", Sideband.Red), ("blue", Sideband.Blue));
+
+            bool direct = YamlReader.Has(m, "coupling");
+            bool single = YamlReader.Has(m, "g0") || YamlReader.Has(m, "photons");
+            bool coop = YamlReader.Has(m, "cooperativity");
+            int forms = (direct ? 1 : 0) + (single ? 1 : 0) + (coop ? 1 : 0);
+            if (forms != 1)
+            {
+                r.Report(path, m, forms == 0
+                    ? "missing coupling: give exactly one of coupling (G), g0 + photons, or cooperativity"
+                    : "give exactly one of coupling (G), g0 + photons, or cooperativity");
+                return null;
+            }
+            double? g = null;
+            CouplingForm form = CouplingForm.Direct;
+            if (direct)
+                g = r.Number(YamlReader.Get(m, "coupling"), path + ".coupling", Dimension.Frequency, 0);
+            else if (single)
+            {
+                form = CouplingForm.SinglePhoton;
+                double? g0 = r.Number(r.Required(m, path, "g0", "single-photon coupling, e.g. 50 Hz"), path + ".g0", Dimension.Frequency, 0);
+                double? n = r.Number(r.Required(m, path, "photons", "intracavity photon number"), path + ".photons", Dimension.Dimensionless, 0);
+                if (g0 is not null && n is not null) g = g0 * Math.Sqrt(n.Value);
+            }
+            else
+            {
+                form = CouplingForm.Cooperativity;
+                double? c = r.Number(YamlReader.Get(m, "cooperativity"), path + ".cooperativity", Dimension.Dimensionless, 0);
+                // C = 4G²/(κγ) with all three as angular rates; the 2π factors cancel in Hz.
+                if (c is not null && cavity is not null && mech is not null)
+                    g = Math.Sqrt(c.Value * cavity.LinewidthHz * mech.LinewidthHz) / 2;
+            }
+            if (cavity is null || mech is null || sideband is null || g is null) return null;
+            return new Tone(cavity.Name, mech.Name, sideband.Value, g.Value, form);
+        }
+
+        private Readout? ReadoutOf(YamlNode? node, Dictionary<string, Mode> modes, ImmutableArray<Stage> stages)
+        {
+            var r = Reader;
+            const string path = "readout";
+            var m = r.Mapping(node, path, "mode", "added_noise", "shots", "stage", "delays", "method", "coupling", "duration", "detector_noise");
+            if (m is null) return null;
+            var mode = ModeRef(r.Required(m, path, "mode", "name of the measured mode"), path + ".mode", modes, null);
+            var method = r.Enum(YamlReader.Get(m, "method"), path + ".method",
+                ("phenomenological", ReadoutMethod.Phenomenological), ("amplification", ReadoutMethod.Amplification)) ?? ReadoutMethod.Phenomenological;
+            double? added = method == ReadoutMethod.Phenomenological
+                ? r.Number(r.Required(m, path, "added_noise", "quanta per quadrature, input-referred"), path + ".added_noise", Dimension.Dimensionless, 0)
+                : r.Number(YamlReader.Get(m, "added_noise"), path + ".added_noise", Dimension.Dimensionless, 0);
+            long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, 1_000_000_000_000);
+            string? stageName = r.String(r.Required(m, path, "stage", "stage the delays count from"), path + ".stage");
+            int stageIndex = -1;
+            if (stageName is not null)
+            {
+                stageIndex = stages.Select((s, i) => (s, i)).FirstOrDefault(p => p.s.Name == stageName, (null!, -1)).Item2;
+                if (stageIndex < 0 && stages.Length > 0)
+                    r.Report(path + ".stage", YamlReader.Get(m, "stage"), $"unknown stage '{stageName}'{YamlReader.Suggest(stageName, stages.Select(s => s.Name))}; stages: {string.Join(", ", stages.Select(s => s.Name))}");
+            }
+            var delays = ImmutableArray.CreateBuilder<double>();
+            var seq = r.Sequence(r.Required(m, path, "delays", "list of times, e.g. [0 ms, 1 ms]"), path + ".delays");
+            double remaining = stageIndex >= 0 ? stages.Skip(stageIndex).Sum(s => s.DurationS) : double.PositiveInfinity;
+            for (int i = 0; seq is not null && i < seq.Children.Count; i++)
+            {
+                double? d = r.Number(seq.Children[i], $"{path}.delays[{i}]", Dimension.Time, 0);
+                if (d is null) continue;
+                if (d > remaining * (1 + 1e-12))
+                    r.Report($"{path}.delays[{i}]", seq.Children[i], $"delay {Quantity.Format(d.Value, Dimension.Time)} runs past the end of the scenario ({Quantity.Format(remaining, Dimension.Time)} after the start of stage '{stageName}')");
+                delays.Add(Math.Min(d.Value, remaining));
+            }
+            if (seq is not null && seq.Children.Count == 0) r.Report(path + ".delays", seq, "at least one delay is needed");
+
+            double coupling = 0, duration = 0, detector = 0;
+            if (method == ReadoutMethod.Amplification)
+            {
+                coupling = r.Number(r.Required(m, path, "coupling", "blue-sideband coupling of the amplification pulse"), path + ".coupling", Dimension.Frequency, 0, minExclusive: true) ?? 0;
+                duration = r.Number(r.Required(m, path, "duration", "length of the amplification pulse"), path + ".duration", Dimension.Time, 0, minExclusive: true) ?? 0;
+                detector = r.Number(r.Required(m, path, "detector_noise", "detector noise in quanta, referred to its input"), path + ".detector_noise", Dimension.Dimensionless, 0) ?? 0;
+                if (mode is not null && mode.Kind != ModeKind.Mechanical)
+                    r.Report(path + ".mode", YamlReader.Get(m, "mode"), "amplification readout needs a mechanical readout mode");
+            }
+            else
+            {
+                foreach (var key in new[] { "coupling", "duration", "detector_noise" })
+                    if (YamlReader.Get(m, key) is { } extra)
+                        r.Report($"{path}.{key}", extra, $"'{key}' applies only to method: amplification");
+            }
+            if (mode is null || shots is null || stageIndex < 0 || (added is null && method == ReadoutMethod.Phenomenological)) return null;
+            return new Readout(mode.Name, added ?? 0, (int)Math.Min(shots.Value, int.MaxValue), stageName!, delays.ToImmutable(), method, coupling, duration, detector);
+        }
+
+        private Jitter JitterOf(YamlNode? node, Dictionary<string, Mode> modes)
+        {
+            var r = Reader;
+            var m = r.Mapping(node, "jitter", "frequency", "coupling", "occupancy");
+            if (m is null) return Jitter.None;
+            ImmutableDictionary<string, double> PerMode(string key, Dimension dimension, ModeKind? kind)
+            {
+                var result = ImmutableDictionary.CreateBuilder<string, double>();
+                foreach (var (keyNode, value) in r.NamedMapping(YamlReader.Get(m, key), "jitter." + key)?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                {
+                    string p = $"jitter.{key}.{((YamlScalarNode)keyNode).Value}";
+                    var mode = ModeRef(keyNode, p, modes, kind);
+                    if (r.Number(value, p, dimension, 0) is { } v && mode is not null) result[mode.Name] = v;
+                }
+                return result.ToImmutable();
+            }
+            return new Jitter(
+                PerMode("frequency", Dimension.Frequency, ModeKind.Mechanical),
+                r.Number(YamlReader.Get(m, "coupling"), "jitter.coupling", Dimension.Dimensionless, 0, max: 1) ?? 0,
+                PerMode("occupancy", Dimension.Dimensionless, null));
+        }
+    }
+}

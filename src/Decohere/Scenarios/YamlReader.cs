@@ -1,0 +1,177 @@
+using System.Globalization;
+using Decohere.Units;
+using YamlDotNet.RepresentationModel;
+
+namespace Decohere.Scenarios;
+
+/// <summary>
+/// Typed access to a YAML tree that records every problem (path, line, column) instead of stopping at the first.
+/// </summary>
+internal sealed class YamlReader
+{
+    private readonly List<ScenarioProblem> _problems = [];
+
+    public IReadOnlyList<ScenarioProblem> Problems => _problems;
+
+    public void Report(string path, YamlNode? node, string message)
+    {
+        int line = node is null ? 0 : (int)node.Start.Line;
+        int column = node is null ? 0 : (int)node.Start.Column;
+        _problems.Add(new ScenarioProblem(path, line, column, message));
+    }
+
+    /// <summary>The node as a mapping whose keys are all in <paramref name="allowed"/>; unknown keys are reported with the nearest valid name.</summary>
+    public YamlMappingNode? Mapping(YamlNode? node, string path, params string[] allowed)
+    {
+        if (node is null) return null;
+        if (node is not YamlMappingNode map)
+        {
+            Report(path, node, $"expected a mapping with keys {string.Join(", ", allowed)}");
+            return null;
+        }
+        foreach (var key in map.Children.Keys)
+        {
+            string name = (key as YamlScalarNode)?.Value ?? "";
+            if (allowed.Length > 0 && !allowed.Contains(name))
+                Report(Join(path, name), key, $"unknown key '{name}'{Suggest(name, allowed)}; allowed: {string.Join(", ", allowed)}");
+        }
+        return map;
+    }
+
+    /// <summary>A mapping whose keys are user-chosen names (modes, per-mode overrides).</summary>
+    public YamlMappingNode? NamedMapping(YamlNode? node, string path)
+    {
+        if (node is null) return null;
+        if (node is YamlMappingNode map) return map;
+        Report(path, node, "expected a mapping of names");
+        return null;
+    }
+
+    public YamlSequenceNode? Sequence(YamlNode? node, string path)
+    {
+        if (node is null) return null;
+        if (node is YamlSequenceNode seq) return seq;
+        Report(path, node, "expected a list");
+        return null;
+    }
+
+    public static YamlNode? Get(YamlMappingNode? map, string key) =>
+        map is not null && map.Children.TryGetValue(new YamlScalarNode(key), out var v) ? v : null;
+
+    public static bool Has(YamlMappingNode? map, string key) => Get(map, key) is not null;
+
+    public YamlNode? Required(YamlMappingNode? map, string path, string key, string what)
+    {
+        if (map is null) return null;
+        var node = Get(map, key);
+        if (node is null) Report(Join(path, key), map, $"missing field '{key}' ({what})");
+        return node;
+    }
+
+    public string? String(YamlNode? node, string path)
+    {
+        if (node is null) return null;
+        if (node is YamlScalarNode s && !string.IsNullOrWhiteSpace(s.Value)) return s.Value!.Trim();
+        Report(path, node, "expected a non-empty text value");
+        return null;
+    }
+
+    public T? Enum<T>(YamlNode? node, string path, params (string Name, T Value)[] choices) where T : struct
+    {
+        string? text = String(node, path);
+        if (text is null) return null;
+        foreach (var (name, value) in choices)
+            if (name == text) return value;
+        string[] names = choices.Select(c => c.Name).ToArray();
+        Report(path, node, $"'{text}' is not allowed{Suggest(text, names)}; allowed: {string.Join(" | ", names)}");
+        return null;
+    }
+
+    public bool? Bool(YamlNode? node, string path)
+    {
+        string? text = String(node, path);
+        if (text is null) return null;
+        if (text is "true" or "yes" or "on") return true;
+        if (text is "false" or "no" or "off") return false;
+        Report(path, node, $"'{text}' is not allowed; allowed: true | false");
+        return null;
+    }
+
+    /// <summary>A quantity in SI units, with optional bounds (inclusive unless stated).</summary>
+    public double? Number(YamlNode? node, string path, Dimension dimension,
+        double min = double.NegativeInfinity, bool minExclusive = false, double max = double.PositiveInfinity)
+    {
+        if (node is null) return null;
+        if (node is not YamlScalarNode scalar || scalar.Value is null)
+        {
+            Report(path, node, $"expected a {Describe(dimension)}");
+            return null;
+        }
+        if (!Quantity.TryParse(scalar.Value, dimension, out double value, out string? error))
+        {
+            Report(path, node, error!);
+            return null;
+        }
+        bool tooLow = minExclusive ? value <= min : value < min;
+        if (tooLow || value > max)
+        {
+            string unit = Quantity.SiUnit(dimension);
+            string low = double.IsNegativeInfinity(min) ? "" : (minExclusive ? $"> {Fmt(min)}" : $">= {Fmt(min)}");
+            string high = double.IsPositiveInfinity(max) ? "" : $"<= {Fmt(max)}";
+            string range = string.Join(" and ", new[] { low, high }.Where(s => s.Length > 0));
+            Report(path, node, $"{scalar.Value} is out of range: must be {range}{(unit.Length > 0 ? " " + unit : "")}");
+            return null;
+        }
+        return value;
+    }
+
+    public long? Integer(YamlNode? node, string path, long min = long.MinValue, long max = long.MaxValue)
+    {
+        if (node is null) return null;
+        string? text = String(node, path);
+        if (text is null) return null;
+        if (!long.TryParse(text, NumberStyles.Integer, CultureInfo.InvariantCulture, out long value))
+        {
+            Report(path, node, $"'{text}' is not a whole number");
+            return null;
+        }
+        if (value < min || value > max)
+        {
+            Report(path, node, $"{value} is out of range: must be between {min} and {max}");
+            return null;
+        }
+        return value;
+    }
+
+    private static string Describe(Dimension d) => d == Dimension.Dimensionless ? "number" : $"{d.ToString().ToLowerInvariant()} (number with unit)";
+
+    private static string Fmt(double v) => v.ToString("G6", CultureInfo.InvariantCulture);
+
+    public static string Join(string path, string key) => path.Length == 0 ? key : $"{path}.{key}";
+
+    /// <summary>" (did you mean 'x'?)" when a valid name is within a small edit distance.</summary>
+    public static string Suggest(string name, IEnumerable<string> valid)
+    {
+        var best = valid.Select(v => (v, d: Levenshtein(name.ToLowerInvariant(), v.ToLowerInvariant())))
+            .OrderBy(p => p.d).FirstOrDefault();
+        return best.v is not null && best.d <= Math.Max(2, best.v.Length / 3) ? $" (did you mean '{best.v}'?)" : "";
+    }
+
+    private static int Levenshtein(string a, string b)
+    {
+        var row = new int[b.Length + 1];
+        for (int j = 0; j <= b.Length; j++) row[j] = j;
+        for (int i = 1; i <= a.Length; i++)
+        {
+            int previous = row[0];
+            row[0] = i;
+            for (int j = 1; j <= b.Length; j++)
+            {
+                int current = row[j];
+                row[j] = Math.Min(Math.Min(row[j] + 1, row[j - 1] + 1), previous + (a[i - 1] == b[j - 1] ? 0 : 1));
+                previous = current;
+            }
+        }
+        return row[b.Length];
+    }
+}
