@@ -68,7 +68,8 @@ public static class Cli
         catch (ScenarioException e)
         {
             Error.MarkupLineInterpolated($"[red]error:[/] {e.SourceName}: {e.Problems.Count} problem{(e.Problems.Count == 1 ? "" : "s")}");
-            foreach (var p in e.Problems) Error.WriteLine("  " + p);
+            // Plain writes: one problem per line, never wrapped, so editors and scripts can jump to path:line.
+            foreach (var p in e.Problems) Console.Error.WriteLine("  " + p);
             return BadInput;
         }
         catch (InputException e)

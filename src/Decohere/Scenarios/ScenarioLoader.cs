@@ -56,6 +56,12 @@ public static class ScenarioLoader
             string message = (e.InnerException?.Message ?? e.Message).Split(['\n'])[0];
             throw new ScenarioException(source, [new ScenarioProblem("(yaml)", (int)e.Start.Line, (int)e.Start.Column, $"malformed YAML: {message}")]);
         }
+        catch (InvalidOperationException)
+        {
+            // The YAML parser runs out of input inside an unclosed flow collection or quote without a position.
+            int lines = text.Split('\n').Length;
+            throw new ScenarioException(source, [new ScenarioProblem("(yaml)", lines, 1, "malformed YAML: the file ends inside an unclosed bracket, brace or quote")]);
+        }
         var builder = new Builder(text);
         var scenario = builder.Build(root);
         if (builder.Reader.Problems.Count > 0 || scenario is null)
@@ -69,6 +75,9 @@ public static class ScenarioLoader
     private sealed class Builder(string text)
     {
         public YamlReader Reader { get; } = new();
+
+        // Names of every mode in the file, valid or not: a reference to an invalid mode is not a second problem.
+        private readonly HashSet<string> _declared = [];
 
         private static readonly string[] TopKeys =
             ["name", "model", "sideband_corrections", "modes", "couplings", "initial", "stages", "readout", "jitter", "output", "seed"];
@@ -84,7 +93,10 @@ public static class ScenarioLoader
                 r.Report("sideband_corrections", YamlReader.Get(root, "sideband_corrections"),
                     "off-resonant sideband rates are an option of model: effective (the full model keeps the cavity in the rotating-wave approximation)");
 
-            var modes = Modes(r.Required(root, "", "modes", "map of mode name to mode"));
+            var modesNode = r.Required(root, "", "modes", "map of mode name to mode");
+            if (modesNode is YamlMappingNode declared)
+                _declared.UnionWith(declared.Children.Keys.OfType<YamlScalarNode>().Select(k => k.Value ?? ""));
+            var modes = Modes(modesNode);
             var byName = modes.ToDictionary(m => m.Name);
             var couplings = Couplings(YamlReader.Get(root, "couplings"), byName, model);
             var initial = Initials(YamlReader.Get(root, "initial"), byName);
@@ -175,6 +187,7 @@ public static class ScenarioLoader
             if (name is null) return null;
             if (!modes.TryGetValue(name, out var mode))
             {
+                if (_declared.Contains(name)) return null;
                 string valid = required is null ? string.Join(", ", modes.Keys)
                     : string.Join(", ", modes.Values.Where(x => x.Kind == required).Select(x => x.Name));
                 Reader.Report(path, node, $"unknown mode '{name}'{YamlReader.Suggest(name, modes.Keys)}; modes{(required is null ? "" : $" of kind {Kind(required.Value)}")}: {valid}");
