@@ -1,1 +1,0 @@
-namespace Decohere; public static class Placeholder {}

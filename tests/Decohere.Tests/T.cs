@@ -1,1 +1,0 @@
-public class T { [Fact] public void A(){} }
