@@ -304,6 +304,8 @@ public static class Lyapunov
         double eigResidual = (ac * s - s * Matrix<Complex>.Build.DenseOfDiagonalVector(lambda)).FrobeniusNorm();
         if (!(eigResidual <= 1e-10 * a.FrobeniusNorm() * Math.Sqrt(n)))
         {
+            warnings.Add(string.Create(CultureInfo.InvariantCulture,
+                $"Computed eigenvectors of A fail ‖A S − S Λ‖_F ≤ 1e-10·‖A‖_F·√n (got {eigResidual:G3}); used Smith doubling instead of diagonalisation."));
             return null;
         }
 
@@ -312,8 +314,10 @@ public static class Lyapunov
         double condition = s.FrobeniusNorm() * sInv.FrobeniusNorm() / n;
         if (!(condition <= EigenvectorConditionLimit))
         {
-            warnings.Add(string.Create(CultureInfo.InvariantCulture,
-                $"Eigenvector matrix of A has cond_F/n ≈ {condition:G3} (strongly non-normal or defective A); not diagonalising."));
+            warnings.Add(double.IsFinite(condition)
+                ? string.Create(CultureInfo.InvariantCulture,
+                    $"Eigenvector matrix of A has cond_F/n ≈ {condition:G3} (strongly non-normal A); used Smith doubling instead of diagonalisation.")
+                : "Eigenvector matrix of A is numerically singular (defective A); used Smith doubling instead of diagonalisation.");
             return null;
         }
 
