@@ -1,0 +1,64 @@
+using MathNet.Numerics.LinearAlgebra;
+
+namespace Decohere.Numerics;
+
+/// <summary>
+/// Input checks shared by the public numerical entry points; each error names the argument.
+/// </summary>
+internal static class Validation
+{
+    public static void RequireSquareFinite(Matrix<double> m, string name)
+    {
+        if (m.RowCount == 0 || m.ColumnCount == 0)
+        {
+            throw new ArgumentException($"{name} must not be empty.", name);
+        }
+
+        if (m.RowCount != m.ColumnCount)
+        {
+            throw new ArgumentException(
+                $"{name} must be square, but is {m.RowCount}×{m.ColumnCount}.", name);
+        }
+
+        for (int i = 0; i < m.RowCount; i++)
+        {
+            for (int j = 0; j < m.ColumnCount; j++)
+            {
+                double x = m[i, j];
+                if (!double.IsFinite(x))
+                {
+                    throw new ArgumentException($"{name}[{i},{j}] is {x}; entries must be finite.", name);
+                }
+            }
+        }
+    }
+
+    public static void RequireSameSize(Matrix<double> a, Matrix<double> d, string nameA, string nameD)
+    {
+        if (d.RowCount != a.RowCount || d.ColumnCount != a.ColumnCount)
+        {
+            throw new ArgumentException(
+                $"{nameD} is {d.RowCount}×{d.ColumnCount} but {nameA} is {a.RowCount}×{a.ColumnCount}; they must match.",
+                nameD);
+        }
+    }
+
+    /// <summary>
+    /// Returns (D + Dᵀ)/2, refusing a D whose antisymmetric part is more than rounding noise:
+    /// a diffusion matrix is symmetric, and an asymmetric one signals a model-building bug.
+    /// </summary>
+    public static Matrix<double> SymmetrisedDiffusion(Matrix<double> d, string name)
+    {
+        double scale = d.FrobeniusNorm();
+        double asym = (d - d.Transpose()).FrobeniusNorm();
+        if (asym > 1e-8 * scale)
+        {
+            throw new ArgumentException(
+                $"{name} must be symmetric; ||{name} − {name}ᵀ||_F / ||{name}||_F = {asym / scale:G3}.", name);
+        }
+
+        return Symmetrise(d);
+    }
+
+    public static Matrix<double> Symmetrise(Matrix<double> m) => (m + m.Transpose()).Multiply(0.5);
+}
