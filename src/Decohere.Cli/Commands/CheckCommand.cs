@@ -57,7 +57,7 @@ public static class CheckCommand
         }
 
         var stages = new Table().Title("stages");
-        foreach (var h in new[] { "stage", "duration", "stability", "rate", "steady var_min", "steady squeezing" }) stages.AddColumn(h);
+        foreach (var h in new[] { "stage", "duration", "stability", "rate (max Re λ)", "steady var_min", "steady squeezing" }) stages.AddColumn(h);
         foreach (var st in report.Stages)
         {
             string varMin = "", db = "";
@@ -69,7 +69,7 @@ public static class CheckCommand
             }
             stages.AddRow(Markup.Escape(st.Stage.Name), Quantity.Format(st.Stage.DurationS, Dimension.Time),
                 st.Stability.IsStable ? "[green]stable[/]" : "[red]unstable (amplifies)[/]",
-                st.Stability.IsStable ? $"slowest decay {Rate(st.Stability.SlowestDecayRate)}" : $"growth {Rate(st.Stability.GrowthRate)}",
+                st.Stability.IsStable ? $"slowest amplitude decay {Rate(st.Stability.SlowestDecayRate)}" : $"growth {Rate(st.Stability.GrowthRate)}",
                 Markup.Escape(varMin), Markup.Escape(db));
         }
         o.Write(stages);

@@ -17,10 +17,18 @@ public static class Cli
     public const int BadInput = 2;
 
     /// <summary>The console for tables and messages (stdout).</summary>
-    public static IAnsiConsole Out { get; set; } = AnsiConsole.Console;
+    public static IAnsiConsole Out { get; set; } = Wide(AnsiConsole.Console, Console.IsOutputRedirected);
 
     /// <summary>The console for errors and progress (stderr).</summary>
-    public static IAnsiConsole Error { get; set; } = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) });
+    public static IAnsiConsole Error { get; set; } =
+        Wide(AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) }), Console.IsErrorRedirected);
+
+    // Piped output goes to files and logs, not an 80-column window: don't wrap tables there.
+    private static IAnsiConsole Wide(IAnsiConsole console, bool redirected)
+    {
+        if (redirected) console.Profile.Width = 240;
+        return console;
+    }
 
     /// <summary>Parses and runs; command-line errors exit with <see cref="BadInput"/>.</summary>
     public static async Task<int> InvokeAsync(RootCommand root, string[] args)
