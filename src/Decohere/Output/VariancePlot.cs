@@ -11,12 +11,12 @@ public static class VariancePlot
     /// <summary>Renders the plot to PNG and SVG, each written atomically.</summary>
     public static void Save(Evolution evolution, string pngPath, string? svgPath = null)
     {
-        var plot = Build(evolution);
-        AtomicFile.Write(pngPath, tmp => plot.SavePng(tmp, 1200, 700));
-        if (svgPath is not null) AtomicFile.Write(svgPath, tmp => plot.SaveSvg(tmp, 1200, 700));
+        AtomicFile.Write(pngPath, tmp => Build(evolution, patterns: true).SavePng(tmp, 1200, 700));
+        // Skia's SVG backend cannot draw dash patterns (it prints a complaint instead), so the SVG uses widths.
+        if (svgPath is not null) AtomicFile.Write(svgPath, tmp => Build(evolution, patterns: false).SaveSvg(tmp, 1200, 700));
     }
 
-    private static Plot Build(Evolution evolution)
+    private static Plot Build(Evolution evolution, bool patterns)
     {
         var scenario = evolution.Dynamics.Scenario;
         var plot = new Plot();
@@ -43,8 +43,8 @@ public static class VariancePlot
             a.LegendText = $"{evolution.ModeNames[j]} var_min";
             var b = plot.Add.ScatterLine(tms, max);
             b.Color = color;
-            b.LineWidth = 2;
-            b.LinePattern = LinePattern.Dashed;
+            b.LineWidth = patterns ? 2 : 1;
+            b.LinePattern = patterns ? LinePattern.Dashed : LinePattern.Solid;
             b.LegendText = $"{evolution.ModeNames[j]} var_max";
         }
         double pad = 0.08 * Math.Max(hi - lo, 0.5);
@@ -60,7 +60,7 @@ public static class VariancePlot
         }
         var zero = plot.Add.HorizontalLine(Math.Log10(0.5));
         zero.Color = Colors.Black;
-        zero.LinePattern = LinePattern.Dotted;
+        zero.LinePattern = patterns ? LinePattern.Dotted : LinePattern.Solid;
         zero.LegendText = "zero-point (0.5)";
 
         var ticks = new ScottPlot.TickGenerators.NumericAutomatic
