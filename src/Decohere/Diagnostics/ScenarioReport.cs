@@ -93,8 +93,9 @@ public sealed record ScenarioReport(
             var stability = dynamics.Stabilities[i];
             GaussianState? steady = stability.IsStable ? dynamics.SteadyState(i) : null;
             stages.Add(new StageReport(s.Stages[i], dynamics.StageStarts[i], stability, steady, steady is null ? double.NaN : dynamics.SteadyResidual(i)));
-            if (steady is not null && dynamics.SteadyResidual(i) > 1e-8)
-                warnings.Add($"stage '{s.Stages[i].Name}': steady-state residual {dynamics.SteadyResidual(i):G3} is large; the stage may be nearly marginal");
+            if (steady is not null)
+                foreach (var w in dynamics.SteadySolution(i).Warnings)
+                    warnings.Add($"stage '{s.Stages[i].Name}' steady state: {w}");
         }
 
         if (s.Readout is { } readout)

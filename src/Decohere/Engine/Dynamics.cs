@@ -13,7 +13,7 @@ namespace Decohere.Engine;
 public sealed class Dynamics
 {
     private readonly GaussianState?[] _steady;
-    private readonly double[] _steadyResidual;
+    private readonly LyapunovSolution?[] _steadySolution;
 
     /// <summary>The scenario solved.</summary>
     public Scenario Scenario { get; }
@@ -41,7 +41,7 @@ public sealed class Dynamics
         Stabilities = [.. Models.Select(m => Stability.Of(m.Drift))];
         StageStarts = scenario.StageStarts;
         _steady = new GaussianState?[scenario.Stages.Length];
-        _steadyResidual = new double[scenario.Stages.Length];
+        _steadySolution = new LyapunovSolution?[scenario.Stages.Length];
         Boundaries = [];
         var initial = InitialStates.Build(scenario, this);
         var boundaries = ImmutableArray.CreateBuilder<GaussianState>(scenario.Stages.Length + 1);
@@ -94,13 +94,20 @@ public sealed class Dynamics
         if (!s.IsStable)
             throw new UnstableDynamicsException(s.GrowthRate,
                 $"stage '{Scenario.Stages[stage].Name}' has no steady state: it grows at {s.GrowthRate:G4} s⁻¹ (max Re λ of the drift)");
-        var v = Lyapunov.SolveSteadyState(model.Drift, model.Diffusion);
-        _steadyResidual[stage] = Lyapunov.RelativeResidual(model.Drift, v, model.Diffusion);
-        var state = new GaussianState(Vector<double>.Build.Dense(model.Dimension), v, ModeNames);
+        var solution = Lyapunov.Solve(model.Drift, model.Diffusion);
+        _steadySolution[stage] = solution;
+        var state = new GaussianState(Vector<double>.Build.Dense(model.Dimension), solution.Covariance, ModeNames);
         _steady[stage] = state;
         return state;
     }
 
-    /// <summary>Relative residual ‖AV + VAᵀ + D‖ of the computed steady state of stage i (after <see cref="SteadyState"/>).</summary>
-    public double SteadyResidual(int stage) => _steadyResidual[stage];
+    /// <summary>How the steady state of stage i was solved: method, residual, numerical warnings.</summary>
+    public LyapunovSolution SteadySolution(int stage)
+    {
+        SteadyState(stage);
+        return _steadySolution[stage]!;
+    }
+
+    /// <summary>Relative residual ‖AV + VAᵀ + D‖ of the steady state of stage i.</summary>
+    public double SteadyResidual(int stage) => SteadySolution(stage).RelativeResidual;
 }
