@@ -111,31 +111,8 @@ public sealed partial class ParameterPath
         var result = TryResolve(path, scenario);
         if (result is not null) return result;
         var available = Available(scenario);
-        string suggestion = Suggest(path, available);
+        string suggestion = NameSuggestion.Suggest(path, available, minimumDistance: 3);
         throw new InputException($"'{path}' is not a parameter of scenario '{scenario.Name}'{suggestion}; parameters: {string.Join(", ", available)}");
-    }
-
-    private static string Suggest(string path, IReadOnlyList<string> available)
-    {
-        var best = available.OrderBy(a => Distance(a, path)).FirstOrDefault();
-        return best is not null && Distance(best, path) <= Math.Max(3, best.Length / 4) ? $" (did you mean '{best}'?)" : "";
-    }
-
-    private static int Distance(string a, string b)
-    {
-        var row = Enumerable.Range(0, b.Length + 1).ToArray();
-        for (int i = 1; i <= a.Length; i++)
-        {
-            int prev = row[0];
-            row[0] = i;
-            for (int j = 1; j <= b.Length; j++)
-            {
-                int cur = row[j];
-                row[j] = Math.Min(Math.Min(row[j] + 1, row[j - 1] + 1), prev + (a[i - 1] == b[j - 1] ? 0 : 1));
-                prev = cur;
-            }
-        }
-        return row[b.Length];
     }
 
     private static ParameterPath? TryResolve(string path, Scenario s)

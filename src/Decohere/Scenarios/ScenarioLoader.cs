@@ -190,7 +190,7 @@ public static class ScenarioLoader
                 if (_declared.Contains(name)) return null;
                 string valid = required is null ? string.Join(", ", modes.Keys)
                     : string.Join(", ", modes.Values.Where(x => x.Kind == required).Select(x => x.Name));
-                Reader.Report(path, node, $"unknown mode '{name}'{YamlReader.Suggest(name, modes.Keys)}; modes{(required is null ? "" : $" of kind {Kind(required.Value)}")}: {valid}");
+                Reader.Report(path, node, $"unknown mode '{name}'{NameSuggestion.Suggest(name, modes.Keys)}; modes{(required is null ? "" : $" of kind {Kind(required.Value)}")}: {valid}");
                 return null;
             }
             if (required is not null && mode.Kind != required)
@@ -257,7 +257,7 @@ public static class ScenarioLoader
                 string[] states = ["ground", "thermal", "squeezed", "coherent", "steady"];
                 if (state is not null && !states.Contains(state))
                 {
-                    r.Report(path + ".state", stateNode, $"'{state}' is not allowed{YamlReader.Suggest(state, states)}; allowed: {string.Join(" | ", states)}");
+                    r.Report(path + ".state", stateNode, $"'{state}' is not allowed{NameSuggestion.Suggest(state, states)}; allowed: {string.Join(" | ", states)}");
                     state = null;
                 }
                 string[] allowed = state switch
@@ -397,7 +397,7 @@ public static class ScenarioLoader
             {
                 stageIndex = stages.Select((s, i) => (s, i)).FirstOrDefault(p => p.s.Name == stageName, (null!, -1)).Item2;
                 if (stageIndex < 0 && stages.Length > 0)
-                    r.Report(path + ".stage", YamlReader.Get(m, "stage"), $"unknown stage '{stageName}'{YamlReader.Suggest(stageName, stages.Select(s => s.Name))}; stages: {string.Join(", ", stages.Select(s => s.Name))}");
+                    r.Report(path + ".stage", YamlReader.Get(m, "stage"), $"unknown stage '{stageName}'{NameSuggestion.Suggest(stageName, stages.Select(s => s.Name))}; stages: {string.Join(", ", stages.Select(s => s.Name))}");
             }
             var delays = ImmutableArray.CreateBuilder<double>();
             var seq = r.Sequence(r.Required(m, path, "delays", "list of times, e.g. [0 ms, 1 ms]"), path + ".delays");

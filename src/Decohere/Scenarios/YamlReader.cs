@@ -33,7 +33,7 @@ internal sealed class YamlReader
         {
             string name = (key as YamlScalarNode)?.Value ?? "";
             if (allowed.Length > 0 && !allowed.Contains(name))
-                Report(Join(path, name), key, $"unknown key '{name}'{Suggest(name, allowed)}; allowed: {string.Join(", ", allowed)}");
+                Report(Join(path, name), key, $"unknown key '{name}'{NameSuggestion.Suggest(name, allowed)}; allowed: {string.Join(", ", allowed)}");
         }
         return map;
     }
@@ -83,7 +83,7 @@ internal sealed class YamlReader
         foreach (var (name, value) in choices)
             if (name == text) return value;
         string[] names = choices.Select(c => c.Name).ToArray();
-        Report(path, node, $"'{text}' is not allowed{Suggest(text, names)}; allowed: {string.Join(" | ", names)}");
+        Report(path, node, $"'{text}' is not allowed{NameSuggestion.Suggest(text, names)}; allowed: {string.Join(" | ", names)}");
         return null;
     }
 
@@ -148,30 +148,4 @@ internal sealed class YamlReader
     private static string Fmt(double v) => v.ToString("G6", CultureInfo.InvariantCulture);
 
     public static string Join(string path, string key) => path.Length == 0 ? key : $"{path}.{key}";
-
-    /// <summary>" (did you mean 'x'?)" when a valid name is within a small edit distance.</summary>
-    public static string Suggest(string name, IEnumerable<string> valid)
-    {
-        var best = valid.Select(v => (v, d: Levenshtein(name.ToLowerInvariant(), v.ToLowerInvariant())))
-            .OrderBy(p => p.d).FirstOrDefault();
-        return best.v is not null && best.d <= Math.Max(2, best.v.Length / 3) ? $" (did you mean '{best.v}'?)" : "";
-    }
-
-    private static int Levenshtein(string a, string b)
-    {
-        var row = new int[b.Length + 1];
-        for (int j = 0; j <= b.Length; j++) row[j] = j;
-        for (int i = 1; i <= a.Length; i++)
-        {
-            int previous = row[0];
-            row[0] = i;
-            for (int j = 1; j <= b.Length; j++)
-            {
-                int current = row[j];
-                row[j] = Math.Min(Math.Min(row[j] + 1, row[j - 1] + 1), previous + (a[i - 1] == b[j - 1] ? 0 : 1));
-                previous = current;
-            }
-        }
-        return row[b.Length];
-    }
 }
