@@ -7,4 +7,5 @@ var root = new RootCommand(
 foreach (var command in new[] { RunCommand.Create(), CheckCommand.Create(), InitCommand.Create() })
     root.Subcommands.Add(command);
 root.Subcommands.Add(LifetimeCommand.Create());
+root.Subcommands.Add(ToleranceCommand.Create());
 return await Cli.InvokeAsync(root, args);
