@@ -1,4 +1,3 @@
-using System.Collections.Immutable;
 using Decohere.Engine;
 using Decohere.Scenarios;
 
@@ -131,7 +130,4 @@ public sealed class ReleaseTrack
         int extension = Dynamics.StageStarts.Length - 1;
         return Dynamics.HasSteadyState(extension) ? Dynamics.SteadyState(extension).Moments(ModeIndex).VarMin : null;
     }
-
-    /// <summary>All stage names after the reference, for messages.</summary>
-    internal ImmutableArray<string> StagesAfter => [.. Scenario.Stages.Skip(_firstStage).Select(s => s.Name)];
 }
