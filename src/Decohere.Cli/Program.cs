@@ -6,4 +6,6 @@ var root = new RootCommand(
     "Evolves Gaussian states exactly from a scenario file and writes Parquet tables, plots and summaries.");
 foreach (var command in new[] { RunCommand.Create(), CheckCommand.Create(), InitCommand.Create() })
     root.Subcommands.Add(command);
+root.Subcommands.Add(LifetimeCommand.Create());
+root.Subcommands.Add(ToleranceCommand.Create());
 return await Cli.InvokeAsync(root, args);

@@ -1,0 +1,163 @@
+using System.Collections.Immutable;
+using System.CommandLine;
+using System.Globalization;
+using Decohere.Output;
+using Decohere.Planning;
+using Decohere.Units;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary>
+/// <c>decohere tolerance [SCENARIO] --added-noise FROM:TO:STEP --shots LIST [--delay T] [--power P] [--confidence C]
+/// [--calibration-uncertainty σ] [--threshold DB] [--after STAGE] [--draws N] [--out DIR] [--quiet]</c>:
+/// which added noise and how many shots resolve the squeezing at a delay.
+/// </summary>
+public static class ToleranceCommand
+{
+    /// <summary>Builds the command.</summary>
+    public static Command Create()
+    {
+        var scenario = Cli.ScenarioArgument(optional: true);
+        var noise = new Option<string>("--added-noise")
+        {
+            Description = "Added noise grid FROM:TO:STEP in quanta per quadrature, input-referred (e.g. 0:3:0.25).",
+            Required = true,
+        };
+        var shots = new Option<string>("--shots") { Description = "Comma-separated shot counts (e.g. 500,2000,10000).", Required = true };
+        var delay = new Option<string>("--delay")
+        {
+            Description = "Delay after the end of the last driven stage (or --after STAGE), e.g. 2 ms (default 0).",
+            DefaultValueFactory = _ => "0 s",
+        };
+        var power = new Option<double>("--power") { Description = "Target power (default 0.9).", DefaultValueFactory = _ => 0.9 };
+        var confidence = new Option<double>("--confidence") { Description = "One-sided confidence of the upper bound (default 0.95).", DefaultValueFactory = _ => 0.95 };
+        var calibration = new Option<double?>("--calibration-uncertainty")
+        {
+            Description = "σ (quanta) of the calibrated added noise the lab subtracts; adds Monte Carlo columns power_mc, power_mc_err.",
+        };
+        var threshold = new Option<string>("--threshold") { Description = "Squeezing threshold in dB (default 0 dB).", DefaultValueFactory = _ => "0 dB" };
+        var after = new Option<string?>("--after") { Description = "Count the delay from the end of this stage (default: the last stage with tones)." };
+        var draws = new Option<int>("--draws") { Description = "Monte Carlo draws per grid point (default 4000).", DefaultValueFactory = _ => 4000 };
+        var output = Cli.OutOption();
+        var quiet = Cli.QuietOption();
+        var command = new Command("tolerance",
+            "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
+            "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png.")
+        {
+            scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, quiet,
+        };
+        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        {
+            var settings = new ToleranceSettings
+            {
+                AddedNoise = ParseRange(parse.GetValue(noise)!, "--added-noise"),
+                Shots = ParseShots(parse.GetValue(shots)!, "--shots"),
+                DelayS = LifetimeCommand.ParseQuantity(parse.GetValue(delay)!, Dimension.Time, "--delay"),
+                TargetPower = parse.GetValue(power),
+                Confidence = parse.GetValue(confidence),
+                CalibrationUncertainty = parse.GetValue(calibration),
+                ThresholdDb = LifetimeCommand.ParseQuantity(parse.GetValue(threshold)!, Dimension.Decibel, "--threshold"),
+                AfterStage = parse.GetValue(after),
+                Draws = parse.GetValue(draws),
+            };
+            settings.Validate();
+            var s = Cli.Load(parse.GetValue(scenario));
+            var result = ToleranceAnalysis.Run(s, settings, cancel);
+            var paths = await ToleranceOutput.WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            if (!parse.GetValue(quiet))
+            {
+                Cli.Out.Write(PowerTable(result));
+                Cli.Out.Write(NeedsTable(result));
+                foreach (var note in result.Notes) Cli.Out.MarkupLineInterpolated($"[yellow]note:[/] {note}");
+            }
+            foreach (var path in paths) Cli.Out.WriteLine(path);
+            return Cli.Ok;
+        }));
+        return command;
+    }
+
+    /// <summary>Parses FROM:TO:STEP (plain numbers) into the grid FROM, FROM + STEP, …, ≤ TO.</summary>
+    /// <exception cref="InputException">Malformed or empty range; the message names the option.</exception>
+    public static ImmutableArray<double> ParseRange(string text, string option)
+    {
+        string[] parts = text.Split(':');
+        var values = new double[parts.Length];
+        for (int i = 0; i < parts.Length; i++)
+            if (!double.TryParse(parts[i].Trim(), NumberStyles.Float, CultureInfo.InvariantCulture, out values[i]) || !double.IsFinite(values[i]))
+                throw new InputException($"{option}: '{parts[i]}' is not a number; expected FROM:TO:STEP, e.g. 0:3:0.25, or one value");
+        if (parts.Length == 1) return [values[0]];
+        if (parts.Length != 3) throw new InputException($"{option}: '{text}' must be FROM:TO:STEP, e.g. 0:3:0.25, or one value");
+        var (from, to, step) = (values[0], values[1], values[2]);
+        if (!(step > 0)) throw new InputException($"{option}: STEP must be > 0 (got {step})");
+        if (to < from) throw new InputException($"{option}: TO ({to}) must be >= FROM ({from})");
+        double count = Math.Floor((to - from) / step * (1 + 1e-12) + 1e-9) + 1;
+        if (count > 100_000) throw new InputException($"{option}: the range has {count:G3} values; at most 100000");
+        return [.. Enumerable.Range(0, (int)count).Select(k => from + k * step)];
+    }
+
+    /// <summary>Parses a comma-separated list of shot counts.</summary>
+    /// <exception cref="InputException">A value is not an integer ≥ 2; the message names the option.</exception>
+    public static ImmutableArray<long> ParseShots(string text, string option)
+    {
+        var list = new List<long>();
+        foreach (var part in text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries))
+        {
+            if (!long.TryParse(part, NumberStyles.Integer, CultureInfo.InvariantCulture, out long n) &&
+                !(double.TryParse(part, NumberStyles.Float, CultureInfo.InvariantCulture, out double d) && d == Math.Floor(d) && d < 9e18 && (n = (long)d) == d))
+                throw new InputException($"{option}: '{part}' is not an integer; expected a list like 500,2000,1e4");
+            if (n < 2) throw new InputException($"{option}: {n} shots is too few; at least 2 are needed for a sample variance");
+            list.Add(n);
+        }
+        if (list.Count == 0) throw new InputException($"{option}: expected a comma-separated list of shot counts, e.g. 500,2000,10000");
+        return [.. list.Distinct()];
+    }
+
+    /// <summary>Power per added noise (rows, at most 25 shown) and shots (columns).</summary>
+    public static Table PowerTable(ToleranceResult r)
+    {
+        var s = r.Settings;
+        var table = new Table().Title($"[bold]{Markup.Escape(r.Scenario.Name)}[/]: power to resolve {r.SqueezingDb:F2} dB of {Markup.Escape(r.Mode)} " +
+                                      $"at {Markup.Escape(Quantity.Format(s.DelayS, Dimension.Time))} after the {Markup.Escape(r.Reference)}");
+        table.AddColumn(new TableColumn("added noise").RightAligned());
+        foreach (var n in s.Shots) table.AddColumn(new TableColumn($"{n} shots").RightAligned());
+        int rows = s.AddedNoise.Length, stride = Math.Max(1, (int)Math.Ceiling(rows / 25.0));
+        for (int i = 0; i < rows; i += stride)
+        {
+            var cells = new List<string> { s.AddedNoise[i].ToString("G4", CultureInfo.InvariantCulture) };
+            for (int j = 0; j < s.Shots.Length; j++)
+            {
+                var p = r.Points[i * s.Shots.Length + j];
+                string colour = p.Power >= s.TargetPower ? "green" : "red";
+                string cell = $"[{colour}]{p.Power:F3}[/]";
+                if (p.PowerMc is { } mc) cell += $" (mc {mc:F3}±{p.PowerMcErr:F3})";
+                cells.Add(cell);
+            }
+            table.AddRow(cells.ToArray());
+        }
+        if (stride > 1) table.Caption($"every {stride}th added-noise value shown; all are in tolerance.parquet");
+        return table;
+    }
+
+    /// <summary>The largest tolerable added noise per shot count and the fewest shots per added noise at the target power.</summary>
+    public static Spectre.Console.Rendering.IRenderable NeedsTable(ToleranceResult r)
+    {
+        var table = new Table().Title($"at target power {r.Settings.TargetPower:G3}");
+        table.AddColumn(new TableColumn("shots").RightAligned());
+        table.AddColumn(new TableColumn("largest added noise").RightAligned());
+        foreach (var (shots, n) in r.LargestAddedNoise)
+            table.AddRow(shots.ToString(CultureInfo.InvariantCulture), n is { } v ? v.ToString("G4", CultureInfo.InvariantCulture) : "[red]none[/]");
+        var fewest = new Table();
+        fewest.AddColumn(new TableColumn("added noise").RightAligned());
+        fewest.AddColumn(new TableColumn("fewest shots").RightAligned());
+        int rows = r.FewestShots.Length, stride = Math.Max(1, (int)Math.Ceiling(rows / 25.0));
+        for (int i = 0; i < rows; i += stride)
+            fewest.AddRow(r.FewestShots[i].AddedNoise.ToString("G4", CultureInfo.InvariantCulture),
+                r.FewestShots[i].Shots is { } k ? k.ToString(CultureInfo.InvariantCulture) : "[red]more than 1e9[/]");
+        var grid = new Grid();
+        grid.AddColumn();
+        grid.AddColumn();
+        grid.AddRow(table, fewest);
+        return grid;
+    }
+}
