@@ -8,6 +8,7 @@ using Commands = Decohere.Cli.Commands;
 namespace Decohere.Tests.Planning;
 
 /// <summary>End-to-end runs of <c>decohere lifetime</c> and <c>decohere tolerance</c> on the built-in demo.</summary>
+[Collection(Decohere.Tests.Cli.ConsoleCollection.Name)]
 public sealed class PlanningCommandTests : IDisposable
 {
     private readonly string _dir = Path.Combine(Path.GetTempPath(), "decohere-planning-" + Guid.NewGuid().ToString("N"));
