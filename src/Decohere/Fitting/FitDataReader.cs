@@ -104,6 +104,9 @@ public static class FitDataReader
                 sii += a * a; sqq += b * b; siq += a * b;
             }
             double vi = sii / (n - 1), vq = sqq / (n - 1), c = siq / (n - 1);
+            if (n == 2)
+                throw new InputException($"{table.Source} {table.RowLabel(first)}, column {DataTable.Describe(col("delay_s"), "delay_s")}: only two shots at delay {Quantity.Format(d, Dimension.Time)}; " +
+                    "two (i, q) pairs always have a singular 2×2 sample covariance, so the joint likelihood needs at least three shots per delay");
             if (!(vi * vq - c * c > 1e-14 * vi * vq))
                 throw new InputException($"{table.Source} {table.RowLabel(first)}, columns {col("i")}, {col("q")}: the {n} shots at delay {Quantity.Format(d, Dimension.Time)} have a singular (i, q) covariance (constant or perfectly correlated values)");
             result.Add(new DelayObservation(d, n, vi, vq, c, mi, mq, double.NaN, double.NaN, table.RowLabel(first)));

@@ -222,7 +222,7 @@ public static class MaximumLikelihood
         }
 
         /// <summary>Nelder–Mead over the coordinates in <paramref name="free"/>, the others held at <paramref name="start"/>; restarted at its own optimum until it stops improving.</summary>
-        public (double[] U, double F) Minimise(double[] start, int[] free, double[] perturbation)
+        public (double[] U, double F) Minimise(double[] start, int[] free, double[] perturbation, double tolerance = 1e-12, int rounds = 6)
         {
             var u = (double[])start.Clone();
             double fu = F(u);
@@ -235,12 +235,12 @@ public static class MaximumLikelihood
             }
             var objectiveFunction = ObjectiveFunction.Value(v => F(Expand(v)));
             var step = Vector<double>.Build.DenseOfEnumerable(free.Select(i => perturbation[i]));
-            for (int round = 0; round < 6; round++)
+            for (int round = 0; round < rounds; round++)
             {
                 var guess = Vector<double>.Build.DenseOfEnumerable(free.Select(i => u[i]));
                 try
                 {
-                    var result = new NelderMeadSimplex(1e-12, 4000).FindMinimum(objectiveFunction, guess, step);
+                    var result = new NelderMeadSimplex(tolerance, 4000).FindMinimum(objectiveFunction, guess, step);
                     double f = result.FunctionInfoAtMinimum.Value;
                     var candidate = Expand(result.MinimizingPoint);
                     bool better = f < fu;
@@ -262,7 +262,7 @@ public static class MaximumLikelihood
         {
             for (int iteration = 0; iteration < 6; iteration++)
             {
-                var h = Hessian(u, f, free, out var gradient);
+                var h = Hessian(u, f, free, out var gradient, refine: iteration == 0 ? 1 : 0);
                 Vector<double> delta;
                 try
                 {
@@ -292,7 +292,7 @@ public static class MaximumLikelihood
         /// where the axis-aligned determinant loses its digits) is still measured accurately
         /// (P. E. Gill, W. Murray, M. H. Wright, Practical Optimization, Academic Press 1981, sec. 8.6).
         /// </summary>
-        public Matrix<double> Hessian(double[] u, double f0, int[] free, out Vector<double> gradient)
+        public Matrix<double> Hessian(double[] u, double f0, int[] free, out Vector<double> gradient, int refine = 2)
         {
             int n = free.Length;
             var directions = Matrix<double>.Build.Dense(n, n);
@@ -305,7 +305,7 @@ public static class MaximumLikelihood
                 if (c > 0 && double.IsFinite(c)) directions[i, i] = Math.Clamp(0.3 * Math.Sqrt(2 / c), 1e-9, 0.5);
             }
             var hess = Directional(u, f0, free, directions, out gradient);
-            for (int round = 0; round < 2; round++)
+            for (int round = 0; round < refine; round++)
             {
                 var evd = hess.Evd(Symmetricity.Symmetric);
                 if (!evd.EigenValues.All(e => e.Real > 0 && double.IsFinite(e.Real))) break;
@@ -390,7 +390,7 @@ public static class MaximumLikelihood
                 var start = (double[])warm.Clone();
                 for (int i = 0; i < _p; i++) if (i != k) start[i] += slope[i] * (t - warmT);
                 start[k] = t;
-                var (u, f) = Minimise(start, others, perturbation);
+                var (u, f) = Minimise(start, others, perturbation, 1e-10, 1);
                 if (f < better) { better = f; betterU = u; }
                 if (keep) { warm = u; warmT = t; }
                 return Math.Sqrt(Math.Max(f - fHat, 0));
@@ -426,7 +426,7 @@ public static class MaximumLikelihood
             {
                 double tm = tOut - gOut * (tOut - tIn) / (gOut - gIn);
                 double g = R(tm, keep: false) - z;
-                if (Math.Abs(g) < 2e-4) { tOut = tm; break; }
+                if (Math.Abs(g) < 1e-3) { tOut = tm; break; }
                 if (g > 0)
                 {
                     tOut = tm; gOut = g;
