@@ -124,6 +124,7 @@ public static class MaximumLikelihood
         private readonly int _p = parameters.Count;
         private readonly ConcurrentQueue<string> _warnings = new();
         private bool _restarted;
+        private readonly double[] _start = [.. parameters.Select(p => p.ToInternal(p.Start))];
 
         /// <summary>Objective in optimiser coordinates.</summary>
         public double F(double[] u)
@@ -410,7 +411,9 @@ public static class MaximumLikelihood
                     : t + 4 * (t - tIn);
                 if (r > rIn) { tIn = t; rIn = r; }
                 t = next;
-                if (Math.Abs(t - uHat[k]) > span)
+                // Followed until past the range both from the optimum and from the start, so an optimum that ran far
+                // along a flat ridge is still searched back towards the user's value.
+                if (Math.Abs(t - uHat[k]) > span && Math.Abs(t - _start[k]) > span)
                 {
                     // The data do not bound the parameter on this side within the range followed.
                     double bound = side < 0 ? (par.IsLogarithmic ? 0 : double.NegativeInfinity) : double.PositiveInfinity;

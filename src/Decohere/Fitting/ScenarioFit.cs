@@ -74,6 +74,11 @@ public static class ScenarioFit
 
         var derived = Derived(scenario, model, ml, paths, z);
         var combinations = Combinations(scenario, model, ml, paths, z, settings.CorrelationLimit, warnings);
+        if (ThermalRefit(scenario, data, model, ml, paths, delays, settings, combinations, warnings) is { } thermal)
+        {
+            combinations = [.. combinations.Where(c => c.Name != thermal.Name), thermal];
+            derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.Estimate : d)];
+        }
 
         int dof = Deviance.Terms(data) - p;
         double pValue = dof > 0 ? ChiSquared.CDF(dof, ml.Minimum) is var c ? 1 - c : double.NaN : double.NaN;
@@ -298,6 +303,63 @@ public static class ScenarioFit
                     (thermal is not null ? "; delays comparable to the energy decay time 1/γ separate γ from n_th" : ""));
             }
         return list.ToImmutable();
+    }
+
+    /// <summary>
+    /// When the damping and the bath of the readout mode are both free but not separately determined (|ρ| above the
+    /// limit, no positive-definite information, or an unbounded profile), refits with the bath replaced by the thermal
+    /// decoherence rate Γ_th = γ·n_th and profiles Γ_th: its profile-likelihood interval holds even along a flat ridge of
+    /// the (γ, n_th) likelihood, where the delta method has nothing to work with.
+    /// </summary>
+    private static IdentifiedCombination? ThermalRefit(Scenario scenario, FitData data, ReadoutModel model, MaximumLikelihoodResult ml,
+        ImmutableArray<ParameterPath> paths, double[] delays, FitSettings settings, ImmutableArray<IdentifiedCombination> found, List<string> warnings)
+    {
+        if (!settings.Profiles) return null;
+        string m = scenario.Readout!.Mode;
+        int damping = paths.IndexOf(paths.FirstOrDefault(p => p.Text is var t && (t == $"modes.{m}.linewidth" || t == $"modes.{m}.quality_factor"))!);
+        int bath = paths.IndexOf(paths.FirstOrDefault(p => p.Text is var t && (t == $"modes.{m}.bath.occupancy" || t == $"modes.{m}.bath.temperature"))!);
+        if (damping < 0 || bath < 0) return null;
+        bool correlated = ml.InternalCovariance is null || Math.Abs(ml.Correlation[damping, bath]) > settings.CorrelationLimit;
+        bool flat = ml.Intervals[damping] is { } a && (!a.HighReached || (!a.LowReached && a.Low == 0)) ||
+                    ml.Intervals[bath] is { } b && (!b.HighReached || (!b.LowReached && b.Low == 0));
+        if (!correlated && !flat) return null;
+        bool temperature = paths[bath].Text.EndsWith(".temperature", StringComparison.Ordinal);
+        double frequency = scenario.ModeNamed(m).FrequencyHz;
+        // x' = x with the bath entry replaced by Γ_th; the bath value follows from Γ_th and the damping in x'.
+        double[] ToOriginal(double[] x)
+        {
+            var values = (double[])x.Clone();
+            values[bath] = temperature ? 1 : 1;
+            double gamma = model.Apply(values).ModeNamed(m).DecayRate;
+            double n = x[bath] / gamma;
+            values[bath] = temperature ? Physics.Temperature(frequency, n) : n;
+            return values;
+        }
+        double rate0 = scenario.ModeNamed(m).DecayRate * model.Apply(ml.Estimates).ModeNamed(m).Bath.Occupancy;
+        double gammaHat = model.Apply(ml.Estimates).ModeNamed(m).DecayRate;
+        var fittedScenario = model.Apply(ml.Estimates);
+        rate0 = gammaHat * fittedScenario.BathOf(fittedScenario.ModeNamed(m), fittedScenario.Stages[fittedScenario.StageIndex(scenario.Readout.Stage)]).Occupancy;
+        if (!(rate0 > 0) || !double.IsFinite(rate0)) return null;
+        var parameters = ml.Parameters.Select((p, k) => k == bath
+            ? new FitParameter("thermal_decoherence_rate_per_s", rate0, ParameterDomain.NonNegative)
+            : p with { Start = ml.Estimates[k] }).ToArray();
+        var refit = MaximumLikelihood.Fit(x => Deviance.Total(data, model.Predict(ToOriginal(x), delays)), parameters, new MaximumLikelihoodSettings
+        {
+            Starts = 1,
+            Confidence = settings.Confidence,
+            Parallel = settings.Parallel,
+            ProfileOnly = [bath],
+        });
+        var iv = refit.Intervals[bath]!;
+        var estimate = new Estimate("thermal_decoherence_rate_per_s", refit.Estimates[bath], refit.StandardErrors[bath], iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
+        double r = ml.InternalCovariance is null ? double.NaN : ml.Correlation[damping, bath];
+        warnings.RemoveAll(w => w.Contains("not separately identified") && w.Contains(paths[damping].Text) && w.Contains(paths[bath].Text));
+        warnings.Insert(0, $"{paths[damping].Text} and {paths[bath].Text} are not separately identified by these data" +
+            (double.IsFinite(r) ? $" (correlation {r:F3})" : " (flat likelihood along γ·n_th = const)") +
+            $"; the data determine the thermal decoherence rate Γ_th = γ·n_th = {estimate.Value:G4} s⁻¹ " +
+            $"({settings.Confidence:P0} profile interval {estimate.Low:G4} – {(iv.HighReached ? estimate.High.ToString("G4", CultureInfo.InvariantCulture) : "∞")} s⁻¹); " +
+            $"delays comparable to the energy decay time 1/γ separate γ from n_th");
+        return new IdentifiedCombination("thermal_decoherence_rate_per_s", "Γ_th = γ·n_th", paths[damping].Text, paths[bath].Text, r, estimate);
     }
 
     private static bool IsQualityFactor(ParameterPath p) => p.Text.EndsWith(".quality_factor", StringComparison.Ordinal);

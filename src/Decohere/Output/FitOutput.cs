@@ -257,7 +257,7 @@ public static class FitOutput
         bottom.Axes.SetLimitsY(-4, 4);
 
         var multi = new Multiplot();
-        multi.AddPlot(top);
+        multi.Reset(top);
         multi.AddPlot(bottom);
         var layout = new ScottPlot.MultiplotLayouts.DraggableRows();
         layout.SetHeights([620f, 280f]);
