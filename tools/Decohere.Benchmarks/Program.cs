@@ -1,1 +1,1 @@
-System.Console.WriteLine();
+BenchmarkDotNet.Running.BenchmarkSwitcher.FromAssembly(typeof(Decohere.Benchmarks.FitBenchmark).Assembly).Run(args);
