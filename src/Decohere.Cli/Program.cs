@@ -4,8 +4,11 @@ using Decohere.Cli.Commands;
 var root = new RootCommand(
     "Decohere: plan and analyse how a mechanical mode coupled to a cavity loses its squeezing. " +
     "Evolves Gaussian states exactly from a scenario file and writes Parquet tables, plots and summaries.");
-foreach (var command in new[] { RunCommand.Create(), CheckCommand.Create(), InitCommand.Create() })
+foreach (var command in new[]
+{
+    RunCommand.Create(), CheckCommand.Create(), InitCommand.Create(),
+    LifetimeCommand.Create(), ToleranceCommand.Create(),
+    FitCommand.Create(), FitNoiseCommand.Create(),
+})
     root.Subcommands.Add(command);
-root.Subcommands.Add(LifetimeCommand.Create());
-root.Subcommands.Add(ToleranceCommand.Create());
 return await Cli.InvokeAsync(root, args);

@@ -1,0 +1,96 @@
+using System.CommandLine;
+using Decohere.Fitting;
+using Decohere.Output;
+using Decohere.Units;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary>
+/// <c>decohere fit SCENARIO --data FILE [--free LIST] [--column NAME=FILE_COLUMN]... [--delay-unit UNIT] [--out DIR]</c>:
+/// maximum-likelihood fit of scenario parameters to measured shots, variances or occupancies.
+/// </summary>
+public static class FitCommand
+{
+    /// <summary>--data FILE (shared with fit-noise).</summary>
+    public static Option<FileInfo> DataOption(string description) => new("--data") { Description = description, Required = true };
+
+    /// <summary>--column NAME=FILE_COLUMN, repeatable (shared with fit-noise).</summary>
+    public static Option<string[]> ColumnOption() => new("--column")
+    {
+        Description = "Map an expected column to the file's name, e.g. --column delay_s=t_ms --column var_i=vx (repeatable). " +
+            "Expected names: " + string.Join(", ", DataOptions.KnownColumns) + ".",
+        Arity = ArgumentArity.ZeroOrMore,
+    };
+
+    /// <summary>Builds the command.</summary>
+    public static Command Create()
+    {
+        var scenario = Cli.ScenarioArgument(optional: false);
+        var data = DataOption("Measured data, CSV (header row, comma-separated) or Parquet, with columns delay_s, i, q (shots); " +
+            "delay_s, var_i, var_q, shots [, cov_iq] (variances); or delay_s, occupancy, occupancy_err (occupancies).");
+        var free = new Option<string[]>("--free")
+        {
+            Description = "Free parameters by scenario path, comma-separated or repeated (default: the readout mode's bath.occupancy and " +
+                "linewidth, plus readout.added_noise for shots or variances). E.g. modes.drum.bath.temperature,modes.drum.linewidth.",
+            Arity = ArgumentArity.ZeroOrMore,
+        };
+        var columns = ColumnOption();
+        var delayUnit = new Option<string?>("--delay-unit") { Description = "Unit of the delay column: s (default), ms, us or ns." };
+        var mode = new Option<string?>("--mode") { Description = "With a mode column in shot data: the mode's rows to keep (default: the readout mode)." };
+        var starts = new Option<int>("--starts") { Description = "Optimiser starts (default 4).", DefaultValueFactory = _ => 4 };
+        var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
+        var output = Cli.OutOption();
+        var quiet = Cli.QuietOption();
+        var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
+        {
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
+        };
+        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        {
+            var s = Cli.Load(parse.GetValue(scenario));
+            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], parse.GetValue(delayUnit), parse.GetValue(mode));
+            var fitData = await FitDataReader.ReadAsync(parse.GetValue(data)!.FullName, s, options, cancel);
+            var paths = (parse.GetValue(free) ?? []).SelectMany(f => f.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries)).ToList();
+            if (paths.Count == 0) paths = [.. ScenarioFit.DefaultFree(s, fitData.Shape)];
+            int startCount = parse.GetValue(starts);
+            if (startCount < 1) throw new InputException($"--starts {startCount}: must be ≥ 1");
+            var result = ScenarioFit.Run(s, fitData, paths, new FitSettings { Starts = startCount, Profiles = !parse.GetValue(noProfiles) });
+            cancel.ThrowIfCancellationRequested();
+            var written = await FitOutput.WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            if (!parse.GetValue(quiet))
+            {
+                Cli.Out.Write(Table(result));
+                var g = result.Goodness;
+                Cli.Out.MarkupLineInterpolated($"deviance {g.Deviance:G5} for {g.DegreesOfFreedom} degrees of freedom: reduced χ² {g.ReducedChiSquare:G4}, p = {g.PValue:G3} ({result.Likelihood})");
+                Cli.Warnings(result.Warnings);
+            }
+            foreach (var path in written) Cli.Out.WriteLine(path);
+            return Cli.Ok;
+        }));
+        return command;
+    }
+
+    /// <summary>The terminal table: each free parameter and derived quantity with its error and interval.</summary>
+    public static Table Table(FitResult fit)
+    {
+        var table = new Table().Title($"[bold]{Markup.Escape(fit.Scenario.Name)}[/]: fit to {Markup.Escape(fit.Data.Source)} " +
+            $"({fit.Data.Delays.Length} delays, {fit.Data.Shape.ToString().ToLowerInvariant()})");
+        foreach (var h in new[] { "quantity", "value", "std. error", $"{fit.Confidence:P0} interval", "method" })
+            table.AddColumn(new TableColumn(h).RightAligned());
+        for (int k = 0; k < fit.Parameters.Length; k++)
+            Row(table, fit.Parameters[k], fit.Paths[k].Dimension);
+        foreach (var d in fit.Derived)
+            Row(table, d, d.Name switch { "bath_temperature_k" => Dimension.Temperature, "linewidth_hz" => Dimension.Frequency, "energy_decay_time_s" => Dimension.Time, _ => Dimension.Dimensionless }, derived: true);
+        return table;
+    }
+
+    private static void Row(Table table, Estimate e, Dimension dimension, bool derived = false)
+    {
+        string F(double v) => double.IsPositiveInfinity(v) ? "∞" : dimension == Dimension.Dimensionless ? v.ToString("G4") : Quantity.Format(v, dimension);
+        string low = e.LowReached ? F(e.Low) : $"({F(e.Low)})";
+        string high = e.HighReached ? F(e.High) : "∞";
+        table.AddRow(Markup.Escape(derived ? "  " + e.Name : e.Name), F(e.Value), double.IsFinite(e.StandardError) ? F(e.StandardError) : "–",
+            $"{low} – {high}", e.Method);
+    }
+}

@@ -1,0 +1,49 @@
+using System.CommandLine;
+using Decohere.Fitting;
+using Decohere.Output;
+using Spectre.Console;
+
+namespace Decohere.Cli.Commands;
+
+/// <summary><c>decohere fit-noise --data FILE [--column NAME=FILE_COLUMN]... [--out DIR]</c>: gain and added-noise calibration against known occupancies.</summary>
+public static class FitNoiseCommand
+{
+    /// <summary>Builds the command.</summary>
+    public static Command Create()
+    {
+        var data = FitCommand.DataOption("Calibration data, CSV or Parquet, with columns occupancy (prepared, quanta), var_i, var_q (measured) and shots.");
+        var columns = FitCommand.ColumnOption();
+        var output = new Option<DirectoryInfo?>("--out") { Description = "Output directory (default: results/fit-noise/)." };
+        var quiet = Cli.QuietOption();
+        var command = new Command("fit-noise", "Calibrate the readout: fit var = gain·(occupancy + ½) + added_noise to variances measured at known occupancies; write fit-noise.json.")
+        {
+            data, columns, output, quiet,
+        };
+        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        {
+            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], null);
+            var file = parse.GetValue(data)!;
+            var points = await NoiseCalibration.ReadAsync(file.FullName, options, cancel);
+            var result = NoiseCalibration.Fit(points, file.Name);
+            string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
+            Directory.CreateDirectory(dir);
+            string path = Path.Combine(dir, "fit-noise.json");
+            SummaryJson.Write(FitOutput.NoiseJson(result), path);
+            if (!parse.GetValue(quiet))
+            {
+                var table = new Table().Title($"[bold]noise calibration[/]: {Markup.Escape(file.Name)} ({points.Length} points)");
+                foreach (var h in new[] { "quantity", "value", "std. error", $"{result.Confidence:P0} interval" })
+                    table.AddColumn(new TableColumn(h).RightAligned());
+                foreach (var e in new[] { result.Gain, result.AddedNoise, result.AddedNoiseInputReferred })
+                    table.AddRow(Markup.Escape(e.Name), e.Value.ToString("G5"), e.StandardError.ToString("G3"),
+                        $"{(e.LowReached ? e.Low.ToString("G5") : "(0)")} – {(e.HighReached ? e.High.ToString("G5") : "∞")}");
+                Cli.Out.Write(table);
+                Cli.Out.MarkupLineInterpolated($"deviance {result.Goodness.Deviance:G5} for {result.Goodness.DegreesOfFreedom} degrees of freedom, p = {result.Goodness.PValue:G3}; correlation(gain, added_noise) = {result.Correlation:F3}");
+                Cli.Warnings(result.Warnings);
+            }
+            Cli.Out.WriteLine(path);
+            return Cli.Ok;
+        }));
+        return command;
+    }
+}
