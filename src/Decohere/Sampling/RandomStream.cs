@@ -119,6 +119,7 @@ public struct RandomStream
     }
 
     /// <summary>Fills <paramref name="values"/> with standard normal deviates.</summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public void FillNormal(Span<double> values)
     {
         for (int k = 0; k < values.Length; k++) values[k] = NextNormal();

@@ -136,6 +136,7 @@ public sealed class TrajectorySampler
     }
 
     /// <summary>One trajectory into <paramref name="output"/> (time-major, recorded components).</summary>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
     private void Run(ref RandomStream random, Span<double> output)
     {
         int n = _n, c = Components.Length;

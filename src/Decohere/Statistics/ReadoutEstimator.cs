@@ -101,7 +101,9 @@ public static class ReadoutEstimator
         double sdI = p is { } a ? (a.VarX + addedNoise) * Math.Sqrt(2 / nu) : nan;
         double sdQ = p is { } b ? (b.VarP + addedNoise) * Math.Sqrt(2 / nu) : nan;
         double sdC = p is { } c ? Math.Sqrt(((c.VarX + addedNoise) * (c.VarP + addedNoise) + c.CovXP * c.CovXP) / nu) : nan;
-        static Estimate E(double value, double low, double high, double model, double sd) => new(value, low, high, model, (value - model) / sd);
+        // No z-score for a value that is not finite (dB when the inferred var_min ≤ 0).
+        static Estimate E(double value, double low, double high, double model, double sd) =>
+            new(value, low, high, model, double.IsFinite(value) ? (value - model) / sd : double.NaN);
         double db = Db(inferred.VarMin);
         // dB falls as var_min rises, so var_min's upper end gives dB's lower end; the delta method gives its spread.
         double dbSd = 10 / Math.Log(10) * minSd / Math.Abs(inferred.VarMin);
