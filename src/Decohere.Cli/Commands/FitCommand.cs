@@ -85,7 +85,7 @@ public static class FitCommand
         return table;
     }
 
-    private static void Row(Table table, Estimate e, Dimension dimension, bool derived = false)
+    private static void Row(Table table, FittedQuantity e, Dimension dimension, bool derived = false)
     {
         string F(double v) => double.IsPositiveInfinity(v) ? "∞" : dimension == Dimension.Dimensionless ? v.ToString("G4") : Quantity.Format(v, dimension);
         string low = e.LowReached ? F(e.Low) : $"({F(e.Low)})";

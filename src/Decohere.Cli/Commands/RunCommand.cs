@@ -1,13 +1,19 @@
 using System.CommandLine;
+using System.Text.Json.Nodes;
 using Decohere.Diagnostics;
 using Decohere.Engine;
 using Decohere.Output;
+using Decohere.Sampling;
 using Decohere.Scenarios;
+using Decohere.Statistics;
 using Spectre.Console;
 
 namespace Decohere.Cli.Commands;
 
-/// <summary><c>decohere run [SCENARIO] [--out DIR] [--seed N] [--quiet]</c>: evolve the covariances and write the results.</summary>
+/// <summary>
+/// <c>decohere run [SCENARIO] [--out DIR] [--seed N] [--trajectories N] [--quiet]</c>: evolve the covariances and write the
+/// results; with a readout, also sample the shots and estimate what they show.
+/// </summary>
 public static class RunCommand
 {
     /// <summary>Builds the command.</summary>
@@ -16,21 +22,37 @@ public static class RunCommand
         var scenario = Cli.ScenarioArgument(optional: true);
         var output = Cli.OutOption();
         var seed = new Option<long?>("--seed") { Description = "Random seed (overrides the scenario's seed)." };
-        var quiet = Cli.QuietOption();
-        var command = new Command("run", "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg.")
+        var trajectories = new Option<int>("--trajectories")
         {
-            scenario, output, seed, quiet,
+            Description = "Also sample N trajectories of the readout mode through every stage (trajectories.parquet).",
+            DefaultValueFactory = _ => 0,
+        };
+        var quiet = Cli.QuietOption();
+        var command = new Command("run",
+            "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
+            "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png).")
+        {
+            scenario, output, seed, trajectories, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
+            int nTrajectories = parse.GetValue(trajectories);
+            if (nTrajectories < 0) throw new InputException($"--trajectories: {nTrajectories} is negative; give a count ≥ 0");
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
-            var written = await Run(s, dir, cancel);
             bool isQuiet = parse.GetValue(quiet);
+            bool showProgress = !isQuiet && !Console.IsErrorRedirected;
+            var written = await Run(s, dir, cancel, nTrajectories, showProgress, chain =>
+            {
+                if (!isQuiet && chain.Amplification is { } a)
+                    Cli.Out.MarkupLineInterpolated(
+                        $"amplification readout on cavity [bold]{a.Cavity}[/]: gain {a.Gain:G5} ({10 * Math.Log10(a.Gain):F1} dB), pulse added noise {a.PulseAddedNoise:G4} quanta at the output, input-referred added noise {a.AddedNoise:G4} quanta per quadrature");
+            });
             if (!isQuiet)
             {
                 Cli.Out.Write(StageTable(written.Dynamics));
+                if (written.Sampling is { } sampling) Cli.Out.Write(EstimateTable(sampling));
                 Cli.Warnings(written.Report.Warnings);
             }
             foreach (var path in written.Paths) Cli.Out.WriteLine(path);
@@ -40,11 +62,20 @@ public static class RunCommand
     }
 
     /// <summary>What a run produced.</summary>
-    public sealed record RunOutput(Dynamics Dynamics, ScenarioReport Report, IReadOnlyList<string> Paths);
+    public sealed record RunOutput(Dynamics Dynamics, ScenarioReport Report, IReadOnlyList<string> Paths, SamplingOutput? Sampling = null);
 
-    /// <summary>Evolves a scenario and writes its outputs into <paramref name="directory"/>.</summary>
-    public static async Task<RunOutput> Run(Scenario scenario, string directory, CancellationToken cancel)
+    /// <summary>The shots' estimates of a run with a readout.</summary>
+    public sealed record SamplingOutput(ShotSampler Sampler, IReadOnlyList<ReadoutEstimate> Estimates);
+
+    /// <summary>
+    /// Evolves a scenario and writes its outputs into <paramref name="directory"/>; with a readout also samples its shots,
+    /// and <paramref name="trajectories"/> trajectories when asked. summary.json is written last, so it describes only
+    /// complete outputs.
+    /// </summary>
+    public static async Task<RunOutput> Run(Scenario scenario, string directory, CancellationToken cancel,
+        int trajectories = 0, bool showProgress = false, Action<ReadoutChain>? onReadout = null, SamplerSettings? settings = null)
     {
+        settings ??= SamplerSettings.Default;
         var dynamics = Dynamics.Solve(scenario);
         var evolution = Evolution.Run(dynamics);
         var report = ScenarioReport.Of(dynamics);
@@ -55,11 +86,149 @@ public static class RunCommand
         string summary = Path.Combine(directory, "summary.json");
         string png = Path.Combine(directory, "variance.png"), svg = Path.Combine(directory, "variance.svg");
         await CovarianceTable.WriteAsync(evolution, table, metadata, cancel);
-        SummaryJson.Write(SummaryJson.Build(dynamics, report, metadata), summary);
         cancel.ThrowIfCancellationRequested();
         VariancePlot.Save(evolution, png, svg);
-        return new RunOutput(dynamics, report, [table, summary, png, svg]);
+        var paths = new List<string> { table, summary, png, svg };
+        var json = SummaryJson.Build(dynamics, report, metadata);
+
+        ShotSampler? sampler = scenario.Readout is null ? null : new ShotSampler(scenario, dynamics, settings);
+        if (sampler is not null) onReadout?.Invoke(sampler.Chain);
+        TrajectorySampler? paths2 = null;
+        if (trajectories > 0)
+        {
+            var modes = sampler is not null
+                ? [sampler.Chain.ModeIndex]
+                : dynamics.ModeNames.Select((n, j) => (n, j)).Where(p => scenario.ModeNamed(p.n).Kind == ModeKind.Mechanical).Select(p => p.j).ToArray();
+            paths2 = new TrajectorySampler(dynamics, modes.SelectMany(j => new[] { 2 * j, 2 * j + 1 }), settings);
+        }
+
+        IReadOnlyList<ReadoutEstimate>? estimates = null;
+        await WithProgress(showProgress, sampler, paths2 is null ? 0 : trajectories, async (shotProgress, trajectoryProgress) =>
+        {
+            if (sampler is not null)
+            {
+                string shotsPath = Path.Combine(directory, "shots.parquet");
+                await using (var shots = await ShotsTable.CreateAsync(shotsPath, sampler, metadata, cancel))
+                {
+                    var stats = await sampler.RunAsync(shots.WriteAsync, shotProgress, cancel);
+                    await shots.CommitAsync();
+                    estimates = [.. sampler.Delays.Select(d => ReadoutEstimator.Estimate(stats[d.Index], sampler.Chain.AddedNoise, d.Model,
+                        RandomStream.Derive(scenario.Seed, StreamPurpose.Bootstrap, d.Index), settings.BootstrapResamples, settings.Confidence))];
+                }
+                string estimatesPath = Path.Combine(directory, "estimates.parquet"), estimatesPng = Path.Combine(directory, "estimates.png");
+                await EstimatesTable.WriteAsync(estimatesPath, sampler, estimates!, settings.Confidence, metadata, cancel);
+                cancel.ThrowIfCancellationRequested();
+                EstimatesPlot.Save(sampler, estimates!, estimatesPng);
+                paths.AddRange([shotsPath, estimatesPath, estimatesPng]);
+                json["readout"] = ReadoutJson(sampler, estimates!, settings);
+            }
+            if (paths2 is not null)
+            {
+                string trajectoriesPath = Path.Combine(directory, "trajectories.parquet");
+                await using var file = await TrajectoriesTable.CreateAsync(trajectoriesPath, paths2, metadata, cancel);
+                await paths2.RunAsync(trajectories, file.WriteAsync, trajectoryProgress, cancel);
+                await file.CommitAsync();
+                paths.Add(trajectoriesPath);
+                json["trajectories"] = new JsonObject { ["count"] = trajectories, ["times"] = paths2.Times.Length, ["seed"] = scenario.Seed };
+            }
+        });
+        cancel.ThrowIfCancellationRequested();
+        SummaryJson.Write(json, summary);
+        return new RunOutput(dynamics, report, paths, sampler is null ? null : new SamplingOutput(sampler, estimates!));
     }
+
+    /// <summary>Runs the body with a progress bar on stderr (when asked) fed by the samplers' progress reports.</summary>
+    private static async Task WithProgress(bool show, ShotSampler? sampler, int trajectories,
+        Func<IProgress<long>?, IProgress<long>?, Task> body)
+    {
+        if (!show || (sampler is null && trajectories == 0))
+        {
+            await body(null, null);
+            return;
+        }
+        await Cli.Error.Progress()
+            .AutoClear(true)
+            .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
+            .StartAsync(async context =>
+            {
+                var shots = sampler is null ? null : context.AddTask("shots", maxValue: sampler.TotalShots);
+                var paths = trajectories == 0 ? null : context.AddTask("trajectories", maxValue: trajectories);
+                await body(shots is null ? null : new Reporter(shots), paths is null ? null : new Reporter(paths));
+            });
+    }
+
+    private sealed class Reporter(ProgressTask task) : IProgress<long>
+    {
+        public void Report(long value) => task.Value = value;
+    }
+
+    private static JsonObject ReadoutJson(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, SamplerSettings settings)
+    {
+        var chain = sampler.Chain;
+        var json = new JsonObject
+        {
+            ["mode"] = chain.Mode,
+            ["method"] = chain.Amplification is null ? "phenomenological" : "amplification",
+            ["added_noise"] = SummaryJson.Number(chain.AddedNoise),
+            ["shots_per_delay"] = sampler.ShotsPerDelay,
+            ["seed"] = sampler.Scenario.Seed,
+            ["block_shots"] = settings.BlockShots,
+            ["confidence"] = settings.Confidence,
+            ["jitter"] = !sampler.Scenario.Jitter.IsNone,
+        };
+        if (chain.Amplification is { } a)
+            json["amplification"] = new JsonObject
+            {
+                ["cavity"] = a.Cavity, ["coupling_hz"] = a.CouplingHz, ["duration_s"] = a.DurationS,
+                ["gain"] = SummaryJson.Number(a.Gain), ["pulse_added_noise"] = SummaryJson.Number(a.PulseAddedNoise),
+                ["detector_noise"] = SummaryJson.Number(a.DetectorNoise), ["input_referred_added_noise"] = SummaryJson.Number(a.AddedNoise),
+            };
+        var delays = new JsonArray();
+        for (int k = 0; k < estimates.Count; k++)
+        {
+            var e = estimates[k];
+            var row = new JsonObject { ["delay_s"] = sampler.Delays[k].DelayS, ["time_s"] = sampler.Delays[k].TimeS, ["shots"] = e.Shots };
+            var values = EstimatesTable.Row(e);
+            for (int q = 0; q < values.Length; q++)
+                row[EstimatesTable.Quantities[q]] = new JsonObject
+                {
+                    ["value"] = SummaryJson.Number(values[q].Value), ["low"] = SummaryJson.Number(values[q].Low),
+                    ["high"] = SummaryJson.Number(values[q].High), ["model"] = SummaryJson.Number(values[q].Model),
+                    ["z"] = SummaryJson.Number(values[q].Z),
+                };
+            delays.Add(row);
+        }
+        json["estimates"] = delays;
+        return json;
+    }
+
+    /// <summary>Per delay and quantity, the estimate with its interval beside the model's value and the z-score.</summary>
+    public static Table EstimateTable(SamplingOutput sampling)
+    {
+        var sampler = sampling.Sampler;
+        var table = new Table().Title(
+            $"[bold]{Markup.Escape(sampler.Chain.Mode)}[/] from {sampler.ShotsPerDelay} shots per delay (added noise {sampler.Chain.AddedNoise:G4} subtracted)");
+        foreach (var h in new[] { "delay", "quantity", "estimate", "95% interval", "model", "z" })
+            table.AddColumn(new TableColumn(h).RightAligned());
+        string[] names = ["var_x", "var_p", "var_min", "var_max", "occupancy", "squeezing (dB)"];
+        for (int k = 0; k < sampling.Estimates.Count; k++)
+        {
+            var e = sampling.Estimates[k];
+            Estimate[] values = [e.VarX, e.VarP, e.VarMin, e.VarMax, e.Occupancy, e.SqueezingDb];
+            for (int q = 0; q < values.Length; q++)
+            {
+                var v = values[q];
+                string format = q == values.Length - 1 ? "F2" : "G4";
+                string colour = Math.Abs(v.Z) > 3 ? "red" : "default";
+                table.AddRow(q == 0 ? Markup.Escape(Units.Quantity.Format(sampler.Delays[k].DelayS, Units.Dimension.Time)) : "", names[q],
+                    N(v.Value, format), $"[[{N(v.Low, format)}, {N(v.High, format)}]]", N(v.Model, format), $"[{colour}]{N(v.Z, "F1")}[/]");
+            }
+        }
+        return table;
+    }
+
+    private static string N(double v, string format) =>
+        double.IsPositiveInfinity(v) ? "∞" : double.IsNegativeInfinity(v) ? "−∞" : double.IsNaN(v) ? "–" : v.ToString(format);
 
     /// <summary>Per stage, the end variances, occupancy and squeezing of every mode.</summary>
     public static Table StageTable(Dynamics dynamics)

@@ -10,9 +10,9 @@ public sealed record CalibrationPoint(double Occupancy, double VarI, double VarQ
 public sealed record NoiseCalibrationResult(
     string Source,
     ImmutableArray<CalibrationPoint> Points,
-    Estimate Gain,
-    Estimate AddedNoise,
-    Estimate AddedNoiseInputReferred,
+    FittedQuantity Gain,
+    FittedQuantity AddedNoise,
+    FittedQuantity AddedNoiseInputReferred,
     double Correlation,
     GoodnessOfFit Goodness,
     ImmutableArray<string> Warnings,
@@ -88,10 +88,10 @@ public static class NoiseCalibration
             [new FitParameter("gain", slope, ParameterDomain.Positive), new FitParameter("added_noise", intercept, ParameterDomain.NonNegative)],
             new MaximumLikelihoodSettings { Confidence = confidence, Parallel = parallel, Starts = 2 });
         double z = Normal.InvCDF(0, 1, 0.5 + confidence / 2);
-        Estimate Of(int k, string name)
+        FittedQuantity Of(int k, string name)
         {
             var iv = ml.Intervals[k]!;
-            return new Estimate(name, ml.Estimates[k], ml.StandardErrors[k], iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
+            return new FittedQuantity(name, ml.Estimates[k], ml.StandardErrors[k], iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
         }
         var gain = Of(0, "gain");
         var added = Of(1, "added_noise");
@@ -99,7 +99,7 @@ public static class NoiseCalibration
         double ratio = ml.Estimates[1] / ml.Estimates[0];
         var cov = ml.InternalCovariance;
         double sdLog = cov is null ? double.NaN : Math.Sqrt(Math.Max(cov[0, 0] + cov[1, 1] - 2 * cov[0, 1], 0));
-        var inputReferred = new Estimate("added_noise_input_referred", ratio, ratio * sdLog, ratio * Math.Exp(-z * sdLog), ratio * Math.Exp(z * sdLog), true, true, "delta (log)");
+        var inputReferred = new FittedQuantity("added_noise_input_referred", ratio, ratio * sdLog, ratio * Math.Exp(-z * sdLog), ratio * Math.Exp(z * sdLog), true, true, "delta (log)");
         int dof = 2 * points.Count - 2;
         double pValue = dof > 0 ? 1 - ChiSquared.CDF(dof, ml.Minimum) : double.NaN;
         var warnings = new List<string>(ml.Warnings);

@@ -64,8 +64,8 @@ public static class ScenarioFit
             var iv = ml.Intervals[k];
             double se = ml.StandardErrors[k];
             return iv is null
-                ? new Estimate(p.Name, ml.Estimates[k], se, ml.Estimates[k] - z * se, ml.Estimates[k] + z * se, true, true, "wald")
-                : new Estimate(p.Name, ml.Estimates[k], se, iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
+                ? new FittedQuantity(p.Name, ml.Estimates[k], se, ml.Estimates[k] - z * se, ml.Estimates[k] + z * se, true, true, "wald")
+                : new FittedQuantity(p.Name, ml.Estimates[k], se, iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
         }).ToImmutableArray();
 
         int p = parameters.Length;
@@ -77,7 +77,7 @@ public static class ScenarioFit
         if (ThermalRefit(scenario, data, model, ml, paths, delays, settings, combinations, warnings) is { } thermal)
         {
             combinations = [.. combinations.Where(c => c.Name != thermal.Name), thermal];
-            derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.Estimate : d)];
+            derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.FittedQuantity : d)];
         }
 
         int dof = Deviance.Terms(data) - p;
@@ -184,7 +184,7 @@ public static class ScenarioFit
     /// An estimate of a derived quantity: a function of one profiled parameter maps that parameter's profile interval
     /// (profile intervals are invariant under monotone reparametrisation); otherwise the delta method on ln q.
     /// </summary>
-    private static Estimate? DerivedEstimate(string name, Func<Scenario, double> quantity, ReadoutModel model, MaximumLikelihoodResult ml, double z)
+    private static FittedQuantity? DerivedEstimate(string name, Func<Scenario, double> quantity, ReadoutModel model, MaximumLikelihoodResult ml, double z)
     {
         var (value, gradient) = Evaluate(quantity, model, ml);
         var depends = Enumerable.Range(0, gradient.Length).Where(k => gradient[k] != 0).ToArray();
@@ -211,18 +211,18 @@ public static class ScenarioFit
             }
             double a = At(iv.Low), b = At(iv.High);
             return gradient[k] > 0
-                ? new Estimate(name, value, se, a, b, iv.LowReached, iv.HighReached, "profile")
-                : new Estimate(name, value, se, b, a, iv.HighReached, iv.LowReached, "profile");
+                ? new FittedQuantity(name, value, se, a, b, iv.LowReached, iv.HighReached, "profile")
+                : new FittedQuantity(name, value, se, b, a, iv.HighReached, iv.LowReached, "profile");
         }
         if (value > 0 && double.IsFinite(se))
         {
             double sdLog = se / value;
-            return new Estimate(name, value, se, value * Math.Exp(-z * sdLog), value * Math.Exp(z * sdLog), true, true, "delta (log)");
+            return new FittedQuantity(name, value, se, value * Math.Exp(-z * sdLog), value * Math.Exp(z * sdLog), true, true, "delta (log)");
         }
-        return new Estimate(name, value, se, value - z * se, value + z * se, true, true, "delta");
+        return new FittedQuantity(name, value, se, value - z * se, value + z * se, true, true, "delta");
     }
 
-    private static ImmutableArray<Estimate> Derived(Scenario scenario, ReadoutModel model, MaximumLikelihoodResult ml, ImmutableArray<ParameterPath> paths, double z)
+    private static ImmutableArray<FittedQuantity> Derived(Scenario scenario, ReadoutModel model, MaximumLikelihoodResult ml, ImmutableArray<ParameterPath> paths, double z)
     {
         var readout = scenario.Readout!;
         var mode = scenario.ModeNamed(readout.Mode);
@@ -241,7 +241,7 @@ public static class ScenarioFit
             ("linewidth_hz", s => s.ModeNamed(m).LinewidthHz, Free($"modes.{m}.linewidth")),
             ("energy_decay_time_s", s => 1 / s.ModeNamed(m).DecayRate, false),
         };
-        var list = ImmutableArray.CreateBuilder<Estimate>();
+        var list = ImmutableArray.CreateBuilder<FittedQuantity>();
         foreach (var (name, quantity, skip) in quantities)
             if (!skip && DerivedEstimate(name, quantity, model, ml, z) is { } e) list.Add(e);
         return list.ToImmutable();
@@ -351,7 +351,7 @@ public static class ScenarioFit
             ProfileOnly = [bath],
         });
         var iv = refit.Intervals[bath]!;
-        var estimate = new Estimate("thermal_decoherence_rate_per_s", refit.Estimates[bath], refit.StandardErrors[bath], iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
+        var estimate = new FittedQuantity("thermal_decoherence_rate_per_s", refit.Estimates[bath], refit.StandardErrors[bath], iv.Low, iv.High, iv.LowReached, iv.HighReached, "profile");
         double r = ml.InternalCovariance is null ? double.NaN : ml.Correlation[damping, bath];
         warnings.RemoveAll(w => w.Contains("not separately identified") && w.Contains(paths[damping].Text) && w.Contains(paths[bath].Text));
         warnings.Insert(0, $"{paths[damping].Text} and {paths[bath].Text} are not separately identified by these data" +

@@ -38,7 +38,7 @@ public static class FitOutput
         return [json, table, png];
     }
 
-    private static JsonObject EstimateJson(Estimate e, string? unit = null)
+    private static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
     {
         var o = new JsonObject
         {
@@ -80,7 +80,7 @@ public static class FitOutput
             KeyValuePair.Create<string, JsonNode?>(e.Name, EstimateJson(e, DerivedUnits.GetValueOrDefault(e.Name)))));
         root["identified_combinations"] = new JsonArray(fit.Combinations.Select(c =>
         {
-            var o = EstimateJson(c.Estimate);
+            var o = EstimateJson(c.FittedQuantity);
             o["name"] = c.Name;
             o["expression"] = c.Expression;
             o["parameters"] = new JsonArray(c.First, c.Second);

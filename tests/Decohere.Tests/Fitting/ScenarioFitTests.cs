@@ -107,9 +107,9 @@ public class ScenarioFitTests
         var combo = Assert.Single(fit.Combinations);
         Assert.Equal("thermal_decoherence_rate_per_s", combo.Name);
         double rate = 2 * Math.PI * LinewidthHz * Nth;
-        Assert.True(combo.Estimate.Low < rate && rate < combo.Estimate.High, $"Γ_th interval {combo.Estimate.Low} – {combo.Estimate.High}, truth {rate}");
+        Assert.True(combo.FittedQuantity.Low < rate && rate < combo.FittedQuantity.High, $"Γ_th interval {combo.FittedQuantity.Low} – {combo.FittedQuantity.High}, truth {rate}");
         // The combination is far better determined than either factor.
-        Assert.True(combo.Estimate.StandardError / combo.Estimate.Value < 0.2 * fit.Parameters[0].StandardError / fit.Parameters[0].Value);
+        Assert.True(combo.FittedQuantity.StandardError / combo.FittedQuantity.Value < 0.2 * fit.Parameters[0].StandardError / fit.Parameters[0].Value);
     }
 
     [Fact]

@@ -1,0 +1,65 @@
+using Decohere.Sampling;
+
+namespace Decohere.Output;
+
+/// <summary>
+/// shots.parquet, streamed one row group per sampler batch: <c>shot, delay_s, time_s, mode, i, q, x, p</c>
+/// (x, p the true sampled quadratures, i, q with readout noise; quanta, zero-point variance ½).
+/// </summary>
+public sealed class ShotsTable : IAsyncDisposable
+{
+    /// <summary>The columns, in file order.</summary>
+    public static readonly ColumnSpec[] Columns =
+    [
+        ColumnSpec.Long("shot"), ColumnSpec.Double("delay_s"), ColumnSpec.Double("time_s"), ColumnSpec.String("mode"),
+        ColumnSpec.Double("i"), ColumnSpec.Double("q"), ColumnSpec.Double("x"), ColumnSpec.Double("p"),
+    ];
+
+    private readonly ParquetTable _table;
+    private readonly ShotSampler _sampler;
+    private long[] _shot = [];
+    private double[] _delay = [], _time = [];
+    private string[] _mode = [];
+
+    private ShotsTable(ParquetTable table, ShotSampler sampler)
+    {
+        _table = table;
+        _sampler = sampler;
+    }
+
+    /// <summary>Opens shots.parquet for the sampler's readout; commit with <see cref="CommitAsync"/>, or dispose to discard.</summary>
+    public static async Task<ShotsTable> CreateAsync(string path, ShotSampler sampler, RunMetadata metadata, CancellationToken cancel = default)
+    {
+        var keys = new Dictionary<string, string>(metadata.ToKeyValues())
+        {
+            ["decohere.readout_added_noise"] = sampler.Chain.AddedNoise.ToString("R", System.Globalization.CultureInfo.InvariantCulture),
+            ["decohere.shots_per_delay"] = sampler.ShotsPerDelay.ToString(System.Globalization.CultureInfo.InvariantCulture),
+        };
+        return new ShotsTable(await ParquetTable.CreateAsync(path, Columns, keys, cancel), sampler);
+    }
+
+    /// <summary>The sink to hand to <see cref="ShotSampler.RunAsync"/>.</summary>
+    public async ValueTask WriteAsync(ShotBatch batch, CancellationToken cancel)
+    {
+        int n = batch.Count;
+        if (_shot.Length < n)
+        {
+            _shot = new long[n];
+            _delay = new double[n];
+            _time = new double[n];
+            _mode = new string[n];
+        }
+        var delay = _sampler.Delays[batch.Delay];
+        for (int k = 0; k < n; k++) _shot[k] = batch.FirstShot + k;
+        Array.Fill(_delay, delay.DelayS, 0, n);
+        Array.Fill(_time, delay.TimeS, 0, n);
+        Array.Fill(_mode, _sampler.Chain.Mode, 0, n);
+        await _table.WriteRowGroupAsync(n, [_shot, _delay, _time, _mode, batch.I, batch.Q, batch.X, batch.P], cancel);
+    }
+
+    /// <summary>Finishes the file and moves it to its final name.</summary>
+    public Task CommitAsync() => _table.CommitAsync();
+
+    /// <summary>Closes; deletes the partial file unless committed.</summary>
+    public ValueTask DisposeAsync() => _table.DisposeAsync();
+}
