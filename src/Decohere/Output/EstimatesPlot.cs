@@ -34,7 +34,11 @@ public static class EstimatesPlot
             max[k] = Log(m.VarMax);
         }
         var palette = new ScottPlot.Palettes.Category10();
-        var lo = Math.Min(min.Min(), Log(0.5));
+        // The axis spans the model and the estimates; an interval reaching zero or below (noise subtraction
+        // overshooting) is drawn down to the axis floor instead of stretching the axis over decades.
+        double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
+            estimates.Select(e => e.VarMin.Value).Where(v => v > 0).Select(Log).DefaultIfEmpty(double.PositiveInfinity).Min()) - 0.5;
+        var lo = floor;
         var hi = max.Max();
         void Series(double[] curve, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
         {
@@ -48,11 +52,10 @@ public static class EstimatesPlot
             {
                 var e = pick(estimates[k]);
                 xs[k] = delays[k].DelayS * 1e3;
-                ys[k] = Log(e.Value);
-                var bar = plot.Add.Line(xs[k], Log(e.Low), xs[k], Log(e.High));
+                ys[k] = Math.Max(Log(e.Value), floor);
+                var bar = plot.Add.Line(xs[k], Math.Max(Log(e.Low), floor), xs[k], Log(e.High));
                 bar.Color = color;
                 bar.LineWidth = 2;
-                lo = Math.Min(lo, Log(e.Low));
                 hi = Math.Max(hi, Log(e.High));
             }
             var marks = plot.Add.ScatterPoints(xs, ys);
@@ -78,7 +81,7 @@ public static class EstimatesPlot
         plot.XLabel($"delay after the start of stage '{sampler.Scenario.Readout!.Stage}' (ms)");
         plot.YLabel($"{sampler.Chain.Mode} quadrature variance (quanta, log scale)");
         plot.Title($"{sampler.Scenario.Name}: inferred from shots (added noise {sampler.Chain.AddedNoise:G3} subtracted) vs model");
-        plot.ShowLegend(Alignment.UpperLeft);
+        plot.ShowLegend(Alignment.LowerRight);
         return plot;
     }
 
