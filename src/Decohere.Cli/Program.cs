@@ -9,6 +9,7 @@ foreach (var command in new[]
     RunCommand.Create(), CheckCommand.Create(), InitCommand.Create(),
     LifetimeCommand.Create(), ToleranceCommand.Create(),
     FitCommand.Create(), FitNoiseCommand.Create(),
+    SweepCommand.Create(), MergeCommand.Create(),
 })
     root.Subcommands.Add(command);
 return await Cli.InvokeAsync(root, args);

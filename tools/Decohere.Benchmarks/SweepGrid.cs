@@ -1,0 +1,36 @@
+using BenchmarkDotNet.Attributes;
+using Decohere.Scenarios;
+using Decohere.Sweeps;
+
+namespace Decohere.Benchmarks;
+
+/// <summary>
+/// A 20 × 20 sweep of the demo (blue coupling × bath temperature): steady-state squeezing of the squeeze stage, run in
+/// parallel and written to sweep.parquet with its chunk files (target &lt; 2 s on 2 cores).
+/// </summary>
+public class SweepSteadySqueezing
+{
+    private Sweep _sweep = null!;
+    private string _dir = null!;
+
+    [GlobalSetup]
+    public void Setup()
+    {
+        _sweep = Sweep.Parse(ScenarioLoader.Demo(),
+            ["stages.squeeze.tones[1].coupling=2kHz:24kHz:20", "modes.drum.bath.temperature=5mK:100mK:20:log"], false, "steady_squeezing_db:squeeze");
+        _dir = Path.Combine(Path.GetTempPath(), $"decohere-bench-sweep-{Environment.ProcessId}");
+    }
+
+    [Benchmark(Description = "demo: 20x20 steady squeezing sweep")]
+    public async Task<long> Run()
+    {
+        var result = await SweepRunner.RunAsync(_sweep, _dir, new SweepRunOptions());
+        return result.Computed;
+    }
+
+    [GlobalCleanup]
+    public void Cleanup()
+    {
+        if (Directory.Exists(_dir)) Directory.Delete(_dir, recursive: true);
+    }
+}
