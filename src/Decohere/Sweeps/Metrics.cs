@@ -42,10 +42,9 @@ public enum MetricArgument { None, Stage, Mode, Delay }
 
 /// <summary>
 /// An entry of the metric registry. <paramref name="Bind"/> resolves the argument against the sweep's template scenario
-/// (null argument: the default) and returns the metric; null <paramref name="Bind"/> marks a metric not in this build.
+/// (null argument: the default) and returns the metric.
 /// </summary>
-public sealed record MetricDefinition(string Name, MetricArgument Argument, string Description,
-    Func<Scenario, string?, Metric>? Bind, string? Unavailable = null);
+public sealed record MetricDefinition(string Name, MetricArgument Argument, string Description, Func<Scenario, string?, Metric> Bind);
 
 /// <summary>
 /// The metric registry: the one place that maps a metric name to its column and its function of a sweep point.
@@ -79,10 +78,12 @@ public static class Metrics
         new("resolution_probability", MetricArgument.Delay,
             "probability that the readout's one-sided 95% upper bound on var_min is below zero-point, at the readout's last delay or :DELAY (exact χ², no sampling)",
             BindResolution),
-        new("physical_lifetime", MetricArgument.None, "time the squeezed quadrature stays below zero-point after the drives stop (s)", null,
-            "needs the planning module, which is not in this build"),
-        new("observable_lifetime", MetricArgument.None, "time for which the readout resolves squeezing after the drives stop (s)", null,
-            "needs the planning module, which is not in this build"),
+        new("physical_lifetime", MetricArgument.Stage,
+            "time the squeezed quadrature stays below zero-point after the end of the last driven stage or :STAGE (s; null if it outlives the search)",
+            (s, arg) => BindLifetime(s, arg, "physical_lifetime", core => (core.PhysicalLifetimeS, core.PhysicalStatus))),
+        new("observable_lifetime", MetricArgument.Stage,
+            "longest delay after the last driven stage or :STAGE at which the readout resolves the squeezing, median-measurement criterion (s; null if never)",
+            (s, arg) => BindLifetime(s, arg, "observable_lifetime", core => (core.ObservableLifetimeS, core.ObservableStatus))),
     ];
 
     /// <summary>The metrics a sweep computes when none are named: steady squeezing and stability of the last stage with tones.</summary>
@@ -110,8 +111,6 @@ public static class Metrics
         string? argument = colon < 0 ? null : text[(colon + 1)..].Trim();
         var definition = All.FirstOrDefault(d => d.Name == name)
             ?? throw new InputException($"--metrics: unknown metric '{name}'; metrics: {string.Join(", ", Usage)}");
-        if (definition.Bind is null)
-            throw new InputException($"--metrics: '{name}' is not available in this build ({definition.Unavailable})");
         if (argument is not null && definition.Argument == MetricArgument.None)
             throw new InputException($"--metrics: '{name}' takes no argument (got ':{argument}')");
         if (argument is { Length: 0 })
@@ -155,6 +154,19 @@ public static class Metrics
         if (arg is null) return DefaultMode(s, metric);
         if (s.Modes.Any(m => m.Name == arg)) return arg;
         throw new InputException($"--metrics: {metric}:{arg}: no mode '{arg}'; modes: {string.Join(", ", s.Modes.Select(m => m.Name))}");
+    }
+
+    // The planning module's lifetime analysis (no sensitivities). A lifetime that does not exist (never resolved,
+    // outlives the search) leaves the value null with its status as the point's error text.
+    private static Metric BindLifetime(Scenario s, string? arg, string name, Func<Planning.LifetimeCore, (double? Value, Planning.LifetimeStatus Status)> pick)
+    {
+        int stage = StageArgument(s, arg, name);
+        string stageName = s.Stages[stage].Name;
+        var settings = new Planning.LifetimeSettings { AfterStage = stageName, Sensitivities = false, CurvePoints = 2 };
+        return new Metric($"{name}:{stageName}", $"{name}_s.{stageName}", $"{name} after stage {stageName}",
+            p => pick(Planning.LifetimeAnalysis.Analyze(p.Scenario, settings)) is var (value, status) && value is { } v
+                ? v
+                : throw new InvalidOperationException($"{name}: {status}"));
     }
 
     private static Metric BindResolution(Scenario s, string? arg)
