@@ -45,7 +45,7 @@ public static class ScenarioFit
         double Objective(double[] x) => Deviance.Total(data, model.Predict(x, delays));
 
         var parameters = paths.Select(p => new FitParameter(p.Text, Start(p, scenario),
-            p.MustBePositive ? ParameterDomain.Positive : ParameterDomain.NonNegative)).ToArray();
+            p.MustBePositive ? ParameterDomain.Positive : p.IsSigned ? ParameterDomain.Real : ParameterDomain.NonNegative)).ToArray();
         var ml = MaximumLikelihood.Fit(Objective, parameters, new MaximumLikelihoodSettings
         {
             Starts = settings.Starts,

@@ -16,8 +16,10 @@ public sealed partial class ParameterPath
     private readonly Func<Scenario, double> _get;
     private readonly Func<Scenario, double, Scenario> _set;
 
-    private ParameterPath(string text, Dimension dimension, bool positive, Func<Scenario, double> get, Func<Scenario, double, Scenario> set)
+    private ParameterPath(string text, Dimension dimension, bool positive, Func<Scenario, double> get, Func<Scenario, double, Scenario> set,
+        bool signed = false)
     {
+        IsSigned = signed;
         Text = text;
         Dimension = dimension;
         MustBePositive = positive;
@@ -33,6 +35,9 @@ public sealed partial class ParameterPath
 
     /// <summary>True when only values &gt; 0 make sense (fits then work on the logarithm).</summary>
     public bool MustBePositive { get; }
+
+    /// <summary>True when negative values are meaningful too (detunings).</summary>
+    public bool IsSigned { get; }
 
     /// <summary>Column name with its SI unit, e.g. <c>modes.drum.bath.temperature_k</c>.</summary>
     public string ColumnName => Dimension switch
@@ -52,8 +57,8 @@ public sealed partial class ParameterPath
     /// <exception cref="InputException">The value is not allowed for this parameter.</exception>
     public Scenario Set(Scenario scenario, double value)
     {
-        if (!double.IsFinite(value) || (MustBePositive ? value <= 0 : value < 0))
-            throw new InputException($"{Text}: {value.ToString(CultureInfo.InvariantCulture)} is out of range; must be {(MustBePositive ? "> 0" : ">= 0")}");
+        if (!double.IsFinite(value) || (MustBePositive ? value <= 0 : !IsSigned && value < 0))
+            throw new InputException($"{Text}: {value.ToString(CultureInfo.InvariantCulture)} is out of range; must be {(MustBePositive ? "> 0" : IsSigned ? "finite" : ">= 0")}");
         return _set(scenario, value);
     }
 
@@ -189,7 +194,7 @@ public sealed partial class ParameterPath
             if (r.Length == 2 && r[0] == "detuning" && s.Modes.Any(m => m.Name == r[1]))
                 return new(path, Dimension.Frequency, false,
                     x => x.Stages[index].DetuningsHz.GetValueOrDefault(r[1]),
-                    (x, v) => WithStage(x, index, st => st with { DetuningsHz = st.DetuningsHz.SetItem(r[1], v) }));
+                    (x, v) => WithStage(x, index, st => st with { DetuningsHz = st.DetuningsHz.SetItem(r[1], v) }), signed: true);
             return null;
         }
         if (s.Readout is not null && path == "readout.added_noise")

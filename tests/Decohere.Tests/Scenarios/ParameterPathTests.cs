@@ -49,4 +49,13 @@ public class ParameterPathTests
         Assert.Contains("expected a frequency", Assert.Throws<InputException>(() => path.ParseValue("3 ms")).Message);
         Assert.Equal(Dimension.Frequency, path.Dimension);
     }
+
+    [Fact]
+    public void DetuningsMayBeNegative()
+    {
+        var s = ScenarioLoader.Parse(ScenarioLoaderTests.Minimal + "\n  - { name: pulse, duration: 0.2 ms, detuning: { drum: 3 Hz } }\n");
+        var path = ParameterPath.Parse("stages.pulse.detuning.drum", s);
+        Assert.True(path.IsSigned);
+        Assert.Equal(-5e3, path.Get(path.Set(s, path.ParseValue("-5 kHz"))));
+    }
 }
