@@ -93,17 +93,17 @@ public static class RunCommand
 
         ShotSampler? sampler = scenario.Readout is null ? null : new ShotSampler(scenario, dynamics, settings);
         if (sampler is not null) onReadout?.Invoke(sampler.Chain);
-        TrajectorySampler? paths2 = null;
+        TrajectorySampler? trajectorySampler = null;
         if (trajectories > 0)
         {
             var modes = sampler is not null
                 ? [sampler.Chain.ModeIndex]
                 : dynamics.ModeNames.Select((n, j) => (n, j)).Where(p => scenario.ModeNamed(p.n).Kind == ModeKind.Mechanical).Select(p => p.j).ToArray();
-            paths2 = new TrajectorySampler(dynamics, modes.SelectMany(j => new[] { 2 * j, 2 * j + 1 }), settings);
+            trajectorySampler = new TrajectorySampler(dynamics, modes.SelectMany(j => new[] { 2 * j, 2 * j + 1 }), settings);
         }
 
         IReadOnlyList<ReadoutEstimate>? estimates = null;
-        await WithProgress(showProgress, sampler, paths2 is null ? 0 : trajectories, async (shotProgress, trajectoryProgress) =>
+        await WithProgress(showProgress, sampler, trajectorySampler is null ? 0 : trajectories, async (shotProgress, trajectoryProgress) =>
         {
             if (sampler is not null)
             {
@@ -122,14 +122,14 @@ public static class RunCommand
                 paths.AddRange([shotsPath, estimatesPath, estimatesPng]);
                 json["readout"] = ReadoutJson(sampler, estimates!, settings);
             }
-            if (paths2 is not null)
+            if (trajectorySampler is not null)
             {
                 string trajectoriesPath = Path.Combine(directory, "trajectories.parquet");
-                await using var file = await TrajectoriesTable.CreateAsync(trajectoriesPath, paths2, metadata, cancel);
-                await paths2.RunAsync(trajectories, file.WriteAsync, trajectoryProgress, cancel);
+                await using var file = await TrajectoriesTable.CreateAsync(trajectoriesPath, trajectorySampler, metadata, cancel);
+                await trajectorySampler.RunAsync(trajectories, file.WriteAsync, trajectoryProgress, cancel);
                 await file.CommitAsync();
                 paths.Add(trajectoriesPath);
-                json["trajectories"] = new JsonObject { ["count"] = trajectories, ["times"] = paths2.Times.Length, ["seed"] = scenario.Seed };
+                json["trajectories"] = new JsonObject { ["count"] = trajectories, ["times"] = trajectorySampler.Times.Length, ["seed"] = scenario.Seed };
             }
         });
         cancel.ThrowIfCancellationRequested();
