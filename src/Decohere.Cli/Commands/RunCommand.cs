@@ -120,7 +120,7 @@ public static class RunCommand
                 cancel.ThrowIfCancellationRequested();
                 EstimatesPlot.Save(sampler, estimates!, estimatesPng);
                 paths.AddRange([shotsPath, estimatesPath, estimatesPng]);
-                json["readout"] = ReadoutJson(sampler, estimates!, settings);
+                json["readout"] = ReadoutSummary.Build(sampler, estimates!, settings);
             }
             if (trajectorySampler is not null)
             {
@@ -160,46 +160,6 @@ public static class RunCommand
     private sealed class Reporter(ProgressTask task) : IProgress<long>
     {
         public void Report(long value) => task.Value = value;
-    }
-
-    private static JsonObject ReadoutJson(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, SamplerSettings settings)
-    {
-        var chain = sampler.Chain;
-        var json = new JsonObject
-        {
-            ["mode"] = chain.Mode,
-            ["method"] = chain.Amplification is null ? "phenomenological" : "amplification",
-            ["added_noise"] = SummaryJson.Number(chain.AddedNoise),
-            ["shots_per_delay"] = sampler.ShotsPerDelay,
-            ["seed"] = sampler.Scenario.Seed,
-            ["block_shots"] = settings.BlockShots,
-            ["confidence"] = settings.Confidence,
-            ["jitter"] = !sampler.Scenario.Jitter.IsNone,
-        };
-        if (chain.Amplification is { } a)
-            json["amplification"] = new JsonObject
-            {
-                ["cavity"] = a.Cavity, ["coupling_hz"] = a.CouplingHz, ["duration_s"] = a.DurationS,
-                ["gain"] = SummaryJson.Number(a.Gain), ["pulse_added_noise"] = SummaryJson.Number(a.PulseAddedNoise),
-                ["detector_noise"] = SummaryJson.Number(a.DetectorNoise), ["input_referred_added_noise"] = SummaryJson.Number(a.AddedNoise),
-            };
-        var delays = new JsonArray();
-        for (int k = 0; k < estimates.Count; k++)
-        {
-            var e = estimates[k];
-            var row = new JsonObject { ["delay_s"] = sampler.Delays[k].DelayS, ["time_s"] = sampler.Delays[k].TimeS, ["shots"] = e.Shots };
-            var values = EstimatesTable.Row(e);
-            for (int q = 0; q < values.Length; q++)
-                row[EstimatesTable.Quantities[q]] = new JsonObject
-                {
-                    ["value"] = SummaryJson.Number(values[q].Value), ["low"] = SummaryJson.Number(values[q].Low),
-                    ["high"] = SummaryJson.Number(values[q].High), ["model"] = SummaryJson.Number(values[q].Model),
-                    ["z"] = SummaryJson.Number(values[q].Z),
-                };
-            delays.Add(row);
-        }
-        json["estimates"] = delays;
-        return json;
     }
 
     /// <summary>Per delay and quantity, the estimate with its interval beside the model's value and the z-score.</summary>
