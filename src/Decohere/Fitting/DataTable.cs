@@ -174,6 +174,13 @@ public sealed class DataTable
                         await group.ReadAsync(f, buffer.AsMemory(), cancellationToken: cancel);
                         texts[f.Name].AddRange(buffer);
                     }
+                    else if (t == typeof(ReadOnlyMemory<char>))
+                    {
+                        // Required (non-nullable) text columns, as this tool writes them, read as character memory.
+                        var buffer = new ReadOnlyMemory<char>[n];
+                        await group.ReadAsync<ReadOnlyMemory<char>>(f, buffer.AsMemory(), cancellationToken: cancel);
+                        texts[f.Name].AddRange(buffer.Select(m => m.ToString()));
+                    }
                     else if (t == typeof(double)) numbers[f.Name].AddRange(await Read<double>(group, f, n, cancel, v => v));
                     else if (t == typeof(float)) numbers[f.Name].AddRange(await Read<float>(group, f, n, cancel, v => v));
                     else if (t == typeof(long)) numbers[f.Name].AddRange(await Read<long>(group, f, n, cancel, v => v));
@@ -187,7 +194,7 @@ public sealed class DataTable
             foreach (var f in fields)
             {
                 var t = Nullable.GetUnderlyingType(f.ClrType) ?? f.ClrType;
-                if (t == typeof(string)) table._texts[f.Name] = [.. texts[f.Name]];
+                if (t == typeof(string) || t == typeof(ReadOnlyMemory<char>)) table._texts[f.Name] = [.. texts[f.Name]];
                 else table._numbers[f.Name] = [.. numbers[f.Name]];
             }
             return table;

@@ -248,7 +248,7 @@ public static class FitOutput
                 : $"γ·n_th = {d.Value.ToString("G3", CultureInfo.InvariantCulture)} s⁻¹"));
         top.Title($"{fit.Scenario.Name}: fit of {string.Join(", ", fit.Paths.Select(p => p.Text))}" + (headline.Length > 0 ? $"\n{headline}" : ""));
         top.YLabel(variances ? "quadrature variance (quanta)" : "occupancy (quanta)");
-        top.ShowLegend(Alignment.LowerRight);
+        top.ShowLegend(Alignment.MiddleLeft);
         bottom.YLabel(variances ? "residual (σ)" : "residual (σ)");
         bottom.XLabel($"delay from start of stage '{fit.Scenario.Readout!.Stage}' ({unit})");
         double pad = 0.03 * maxDelay * scale;
