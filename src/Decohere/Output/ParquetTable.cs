@@ -46,22 +46,28 @@ public sealed class ParquetTable : IAsyncDisposable
     public long RowCount { get; private set; }
 
     /// <summary>Opens a table for writing with key-value metadata stored in the file footer.</summary>
+    /// <param name="path">Final file name (written to a temporary name until committed).</param>
+    /// <param name="columns">The schema.</param>
+    /// <param name="metadata">Footer key-value metadata.</param>
+    /// <param name="cancel">Cancels the opening.</param>
+    /// <param name="options">Writer options (compression, dictionary threshold); null: Parquet.Net's defaults (Snappy).</param>
     public static async Task<ParquetTable> CreateAsync(string path, IReadOnlyList<ColumnSpec> columns,
-        IReadOnlyDictionary<string, string> metadata, CancellationToken cancel = default)
+        IReadOnlyDictionary<string, string> metadata, CancellationToken cancel = default, ParquetOptions? options = null)
     {
         var file = new AtomicFile(path);
         var fields = columns.Select(c => c.Type == typeof(double?)
             ? new DataField(c.Name, typeof(double), isNullable: true)
             : new DataField(c.Name, c.Type, isNullable: false)).ToArray();
         var stream = new FileStream(file.TemporaryPath, FileMode.Create, FileAccess.ReadWrite, FileShare.None, 1 << 16);
-        var writer = await ParquetWriter.CreateAsync(new ParquetSchema(fields), stream, cancellationToken: cancel);
+        var writer = await ParquetWriter.CreateAsync(new ParquetSchema(fields), stream, options, cancellationToken: cancel);
         writer.CustomMetadata = metadata.ToDictionary();
         return new ParquetTable(file, stream, writer, fields, [.. columns]);
     }
 
     /// <summary>
     /// Writes one row group; <paramref name="columns"/> holds one array per column in schema order
-    /// (double[], double?[], long[], int[], bool[] or string[]), all of length <paramref name="rows"/> or more.
+    /// (double[], double?[], long[], int[], bool[], string[], or ReadOnlyMemory&lt;char&gt;[] for a string column — written
+    /// without a per-row string conversion), all of length <paramref name="rows"/> or more.
     /// </summary>
     public async Task WriteRowGroupAsync(int rows, IReadOnlyList<Array> columns, CancellationToken cancel = default)
     {
@@ -78,6 +84,10 @@ public sealed class ParquetTable : IAsyncDisposable
                 case long[] l: await group.WriteAsync<long>(field, l.AsMemory(0, rows), cancellationToken: cancel); break;
                 case int[] i: await group.WriteAsync<int>(field, i.AsMemory(0, rows), cancellationToken: cancel); break;
                 case bool[] b: await group.WriteAsync<bool>(field, b.AsMemory(0, rows), cancellationToken: cancel); break;
+                case ReadOnlyMemory<char>[] m:
+                    if (_columns[c].Type != typeof(string)) throw new ArgumentException($"column {_columns[c].Name}: character data for a non-string column");
+                    await group.WriteAsync<ReadOnlyMemory<char>>(field, m.AsMemory(0, rows), cancellationToken: cancel);
+                    break;
                 case string[] s: await group.WriteAsync(field, rows == s.Length ? s : s[..rows]); break;
                 default: throw new ArgumentException($"column {_columns[c].Name}: unsupported array type {columns[c].GetType().Name}");
             }

@@ -19,7 +19,8 @@ public sealed class ShotsTable : IAsyncDisposable
     private readonly ShotSampler _sampler;
     private long[] _shot = [];
     private double[] _delay = [], _time = [];
-    private string[] _mode = [];
+    private ReadOnlyMemory<char>[] _mode = [];
+    private int _filledDelay = -1;
 
     private ShotsTable(ParquetTable table, ShotSampler sampler)
     {
@@ -47,13 +48,21 @@ public sealed class ShotsTable : IAsyncDisposable
             _shot = new long[n];
             _delay = new double[n];
             _time = new double[n];
-            _mode = new string[n];
+            // One shared character buffer for every row: the writer encodes it without building a string per row.
+            _mode = new ReadOnlyMemory<char>[n];
+            Array.Fill(_mode, _sampler.Chain.Mode.AsMemory());
+            _filledDelay = -1;
         }
-        var delay = _sampler.Delays[batch.Delay];
-        for (int k = 0; k < n; k++) _shot[k] = batch.FirstShot + k;
-        Array.Fill(_delay, delay.DelayS, 0, n);
-        Array.Fill(_time, delay.TimeS, 0, n);
-        Array.Fill(_mode, _sampler.Chain.Mode, 0, n);
+        if (_filledDelay != batch.Delay)
+        {
+            var delay = _sampler.Delays[batch.Delay];
+            Array.Fill(_delay, delay.DelayS);
+            Array.Fill(_time, delay.TimeS);
+            _filledDelay = batch.Delay;
+        }
+        long first = batch.FirstShot;
+        var shot = _shot.AsSpan(0, n);
+        for (int k = 0; k < shot.Length; k++) shot[k] = first + k;
         await _table.WriteRowGroupAsync(n, [_shot, _delay, _time, _mode, batch.I, batch.Q, batch.X, batch.P], cancel);
     }
 

@@ -14,12 +14,18 @@ public sealed class TrajectoriesTable : IAsyncDisposable
     private readonly ParquetTable _table;
     private readonly TrajectorySampler _sampler;
     private readonly string[] _modes;
+    private readonly ReadOnlyMemory<char>[] _names;
+    // Reused between batches (the batch size is fixed for a run).
+    private long[] _trajectory = [];
+    private double[] _time = [], _x = [], _p = [];
+    private ReadOnlyMemory<char>[] _mode = [];
 
     private TrajectoriesTable(ParquetTable table, TrajectorySampler sampler, string[] modes)
     {
         _table = table;
         _sampler = sampler;
         _modes = modes;
+        _names = [.. modes.Select(m => m.AsMemory())];
     }
 
     /// <summary>Opens the table; the sampler must record whole modes (x then p of each, in pairs).</summary>
@@ -36,11 +42,18 @@ public sealed class TrajectoriesTable : IAsyncDisposable
     public async ValueTask WriteAsync(TrajectoryBatch batch, CancellationToken cancel)
     {
         int modes = _modes.Length, times = batch.Times, rows = batch.Count * times * modes;
-        var trajectory = new long[rows];
-        var time = new double[rows];
-        var mode = new string[rows];
-        var x = new double[rows];
-        var p = new double[rows];
+        if (_trajectory.Length < rows)
+        {
+            _trajectory = new long[rows];
+            _time = new double[rows];
+            _mode = new ReadOnlyMemory<char>[rows];
+            _x = new double[rows];
+            _p = new double[rows];
+        }
+        long[] trajectory = _trajectory;
+        double[] time = _time, x = _x, p = _p;
+        var mode = _mode;
+        var names = _names;
         int r = 0;
         for (int t = 0; t < batch.Count; t++)
             for (int k = 0; k < times; k++)
@@ -49,7 +62,7 @@ public sealed class TrajectoriesTable : IAsyncDisposable
                     int at = (t * times + k) * batch.Components + 2 * j;
                     trajectory[r] = batch.FirstTrajectory + t;
                     time[r] = _sampler.Times[k];
-                    mode[r] = _modes[j];
+                    mode[r] = names[j];
                     x[r] = batch.Values[at];
                     p[r] = batch.Values[at + 1];
                 }

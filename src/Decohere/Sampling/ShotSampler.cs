@@ -87,44 +87,67 @@ public sealed class ShotSampler
 
     /// <summary>
     /// Samples every delay's shots in order, handing each batch to <paramref name="sink"/>, and returns the sufficient
-    /// statistics of (i, q) per delay. Memory is bounded by one batch whatever the number of shots.
+    /// statistics of (i, q) per delay. Memory is bounded by two batches whatever the number of shots: the sink of one batch
+    /// runs (on a pool thread) while the next is sampled, never two sink calls at once.
     /// </summary>
     public async Task<QuadratureStatistics[]> RunAsync(ShotSink? sink = null, IProgress<long>? progress = null, CancellationToken cancel = default)
     {
         int block = _settings.BlockShots;
         long blocksPerDelay = (ShotsPerDelay + block - 1) / block;
         int blocksPerBatch = (int)Math.Min(Math.Max(1, _settings.BatchShots / block), blocksPerDelay);
-        var batch = new ShotBatch(blocksPerBatch * block);
+        ShotBatch[] buffers = sink is null ? [new(blocksPerBatch * block)] : [new(blocksPerBatch * block), new(blocksPerBatch * block)];
         var blockStats = new QuadratureStatistics[blocksPerBatch];
         var result = new QuadratureStatistics[Delays.Length];
-        long done = 0;
-        foreach (var delay in Delays)
+        long done = 0, pendingDone = 0;
+        Task pending = Task.CompletedTask;
+        int turn = 0;
+        try
         {
-            long blocks = (ShotsPerDelay + block - 1) / block;
-            var kernel = new DelayKernel(this, delay);
-            var total = QuadratureStatistics.Empty;
-            for (long first = 0; first < blocks; first += blocksPerBatch)
+            foreach (var delay in Delays)
             {
-                cancel.ThrowIfCancellationRequested();
-                int count = (int)Math.Min(blocksPerBatch, blocks - first);
-                long firstBlock = first;
-                Parallel.For(0, count, _settings.Parallel(cancel), b =>
+                long blocks = (ShotsPerDelay + block - 1) / block;
+                var kernel = new DelayKernel(this, delay);
+                var total = QuadratureStatistics.Empty;
+                for (long first = 0; first < blocks; first += blocksPerBatch)
                 {
-                    long shot0 = (firstBlock + b) * block;
-                    int n = (int)Math.Min(block, ShotsPerDelay - shot0);
-                    int offset = b * block;
-                    kernel.Fill(firstBlock + b, batch, offset, n);
-                    blockStats[b] = QuadratureStatistics.Of(batch.I.AsSpan(offset, n), batch.Q.AsSpan(offset, n));
-                });
-                for (int b = 0; b < count; b++) total = total.Merge(blockStats[b]);
-                batch.Delay = delay.Index;
-                batch.FirstShot = first * block;
-                batch.Count = (int)Math.Min((long)count * block, ShotsPerDelay - first * block);
-                if (sink is not null) await sink(batch, cancel);
-                done += batch.Count;
-                progress?.Report(done);
+                    cancel.ThrowIfCancellationRequested();
+                    var batch = buffers[turn];
+                    turn = (turn + 1) % buffers.Length;
+                    int count = (int)Math.Min(blocksPerBatch, blocks - first);
+                    long firstBlock = first;
+                    Parallel.For(0, count, _settings.Parallel(cancel), b =>
+                    {
+                        long shot0 = (firstBlock + b) * block;
+                        int n = (int)Math.Min(block, ShotsPerDelay - shot0);
+                        int offset = b * block;
+                        kernel.Fill(firstBlock + b, batch, offset, n);
+                        blockStats[b] = QuadratureStatistics.Of(batch.I.AsSpan(offset, n), batch.Q.AsSpan(offset, n));
+                    });
+                    for (int b = 0; b < count; b++) total = total.Merge(blockStats[b]);
+                    batch.Delay = delay.Index;
+                    batch.FirstShot = first * block;
+                    batch.Count = (int)Math.Min((long)count * block, ShotsPerDelay - first * block);
+                    done += batch.Count;
+                    if (sink is null)
+                    {
+                        progress?.Report(done);
+                        continue;
+                    }
+                    await pending;
+                    if (pendingDone > 0) progress?.Report(pendingDone);
+                    pending = Task.Run(() => sink(batch, cancel).AsTask(), cancel);
+                    pendingDone = done;
+                }
+                result[delay.Index] = total;
             }
-            result[delay.Index] = total;
+            await pending;
+            if (pendingDone > 0) progress?.Report(pendingDone);
+        }
+        catch when (!pending.IsCompleted)
+        {
+            // Never return while a sink still reads a buffer (the caller may dispose its table next).
+            try { await pending; } catch { /* the first failure is the one reported */ }
+            throw;
         }
         return result;
     }

@@ -32,10 +32,12 @@ public delegate ValueTask TrajectorySink(TrajectoryBatch batch, CancellationToke
 public sealed class TrajectorySampler
 {
     private readonly SamplerSettings _settings;
-    private readonly double[][] _phi;
-    private readonly double[][] _factor;
+    // Step matrices flat: for step id s, Φ at [2n²·s, 2n²·s + n²) and chol(Q) right after it, row-major (one cache-friendly block per step).
+    private readonly double[] _steps;
     private readonly int[] _stepOf;
     private readonly double[] _mean0, _factor0;
+    private readonly int[] _components;
+    private readonly bool _allComponents;
     private readonly int _n;
 
     /// <summary>The dynamics sampled.</summary>
@@ -100,58 +102,125 @@ public sealed class TrajectorySampler
         }
         Times = [.. times];
         _stepOf = [.. stepOf];
-        _phi = [.. phi];
-        _factor = [.. factor];
+        int nn = _n * _n;
+        _steps = new double[2 * nn * phi.Count];
+        for (int s = 0; s < phi.Count; s++)
+        {
+            phi[s].CopyTo(_steps, 2 * nn * s);
+            factor[s].CopyTo(_steps, 2 * nn * s + nn);
+        }
+        _components = [.. Components];
+        _allComponents = _components.Length == _n && _components.Select((c, j) => c == j).All(b => b);
         _mean0 = dynamics.Boundaries[0].Mean.ToArray();
         _factor0 = GaussianFactor.Of(dynamics.Boundaries[0].Covariance);
     }
 
-    /// <summary>Samples <paramref name="count"/> trajectories in order, handing batches to <paramref name="sink"/>.</summary>
+    /// <summary>
+    /// Samples <paramref name="count"/> trajectories in order, handing batches to <paramref name="sink"/>. The sink of one
+    /// batch runs while the next is sampled (two buffers alternate), never two sink calls at once.
+    /// </summary>
     public async Task RunAsync(long count, TrajectorySink sink, IProgress<long>? progress = null, CancellationToken cancel = default)
     {
         int block = Math.Max(1, _settings.BlockTrajectories);
-        long perBatch = Math.Max(block, (_settings.BatchShots / Math.Max(1, Times.Length * Components.Length)) / block * block);
+        int values = Times.Length * Components.Length;
+        long perBatch = Math.Max(block, (_settings.BatchShots / Math.Max(1, values)) / block * block);
+        // Enough blocks per batch to keep every thread busy to the end of the batch, within 16 M values (128 MB) per buffer.
+        int threads = _settings.MaxDegreeOfParallelism is int m && m > 0 ? m : Environment.ProcessorCount;
+        long balanced = Math.Min(8L * threads * block, Math.Max(block, (16L << 20) / Math.Max(1, values) / block * block));
+        perBatch = Math.Min(Math.Max(perBatch, balanced), Math.Max(block, (count + block - 1) / block * block));
         int blocksPerBatch = (int)(perBatch / block);
-        var batch = new TrajectoryBatch(blocksPerBatch * block, Times.Length, Components.Length);
+        TrajectoryBatch[] buffers = [new(blocksPerBatch * block, Times.Length, Components.Length), new(blocksPerBatch * block, Times.Length, Components.Length)];
         long blocks = (count + block - 1) / block;
         long seed = Dynamics.Scenario.Seed;
-        for (long first = 0; first < blocks; first += blocksPerBatch)
+        int normals = _n * Times.Length;
+        Task pending = Task.CompletedTask;
+        long pendingDone = 0;
+        int turn = 0;
+        try
         {
-            cancel.ThrowIfCancellationRequested();
-            int nBlocks = (int)Math.Min(blocksPerBatch, blocks - first);
-            long firstBlock = first;
-            Parallel.For(0, nBlocks, _settings.Parallel(cancel), b =>
+            for (long first = 0; first < blocks; first += blocksPerBatch, turn ^= 1)
             {
-                var random = RandomStream.For(seed, StreamPurpose.Trajectories, firstBlock + b);
-                long t0 = (firstBlock + b) * block;
-                int n = (int)Math.Min(block, count - t0);
-                for (int t = 0; t < n; t++)
-                    Run(ref random, batch.Values.AsSpan((int)((long)(b * block + t) * Times.Length * Components.Length), Times.Length * Components.Length));
-            });
-            batch.FirstTrajectory = first * block;
-            batch.Count = (int)Math.Min((long)nBlocks * block, count - first * block);
-            await sink(batch, cancel);
-            progress?.Report(batch.FirstTrajectory + batch.Count);
+                cancel.ThrowIfCancellationRequested();
+                var batch = buffers[turn];
+                int nBlocks = (int)Math.Min(blocksPerBatch, blocks - first);
+                long firstBlock = first;
+                Parallel.For(0, nBlocks, _settings.Parallel(cancel), () => new double[normals], (b, _, z) =>
+                {
+                    var random = RandomStream.For(seed, StreamPurpose.Trajectories, firstBlock + b);
+                    long t0 = (firstBlock + b) * block;
+                    int n = (int)Math.Min(block, count - t0);
+                    for (int t = 0; t < n; t++)
+                    {
+                        // Same deviates in the same order as drawing them step by step; drawn in one tight loop first.
+                        random.FillNormal(z);
+                        var output = batch.Values.AsSpan((int)((long)(b * block + t) * values), values);
+                        if (_n == 4 && _allComponents) Run4(z, output);
+                        else Run(z, output);
+                    }
+                    return z;
+                }, _ => { });
+                batch.FirstTrajectory = first * block;
+                batch.Count = (int)Math.Min((long)nBlocks * block, count - first * block);
+                await pending;
+                if (pendingDone > 0) progress?.Report(pendingDone);
+                pending = Task.Run(() => sink(batch, cancel).AsTask(), cancel);
+                pendingDone = batch.FirstTrajectory + batch.Count;
+            }
+            await pending;
+            if (pendingDone > 0) progress?.Report(pendingDone);
+        }
+        catch when (!pending.IsCompleted)
+        {
+            // Never return while a sink still reads a buffer (the caller may dispose its table next).
+            try { await pending; } catch { /* the first failure is the one reported */ }
+            throw;
         }
     }
 
-    /// <summary>One trajectory into <paramref name="output"/> (time-major, recorded components).</summary>
+    /// <summary>One trajectory of the 4-component model, all components recorded: the generic step unrolled in registers.</summary>
     [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
-    private void Run(ref RandomStream random, Span<double> output)
+    private void Run4(ReadOnlySpan<double> z, Span<double> output)
     {
-        int n = _n, c = Components.Length;
+        var f = _factor0;
+        var m = _mean0;
+        // Same operation order as the generic path, so both give the same bits.
+        double r0 = m[0] + f[0] * z[0] + f[1] * z[1] + f[2] * z[2] + f[3] * z[3];
+        double r1 = m[1] + f[4] * z[0] + f[5] * z[1] + f[6] * z[2] + f[7] * z[3];
+        double r2 = m[2] + f[8] * z[0] + f[9] * z[1] + f[10] * z[2] + f[11] * z[3];
+        double r3 = m[3] + f[12] * z[0] + f[13] * z[1] + f[14] * z[2] + f[15] * z[3];
+        output[0] = r0; output[1] = r1; output[2] = r2; output[3] = r3;
+        var steps = _steps.AsSpan();
+        var stepOf = _stepOf;
+        if (output.Length < 4 * (stepOf.Length + 1) || z.Length < 4 * (stepOf.Length + 1)) throw new ArgumentException("buffer too short");
+        for (int k = 0; k < stepOf.Length; k++)
+        {
+            var e = steps.Slice(32 * stepOf[k], 32);
+            var x = z.Slice(4 * (k + 1), 4);
+            double x0 = x[0], x1 = x[1], x2 = x[2], x3 = x[3];
+            double n0 = (e[0] * r0 + e[16] * x0) + (e[1] * r1 + e[17] * x1) + (e[2] * r2 + e[18] * x2) + (e[3] * r3 + e[19] * x3);
+            double n1 = (e[4] * r0 + e[20] * x0) + (e[5] * r1 + e[21] * x1) + (e[6] * r2 + e[22] * x2) + (e[7] * r3 + e[23] * x3);
+            double n2 = (e[8] * r0 + e[24] * x0) + (e[9] * r1 + e[25] * x1) + (e[10] * r2 + e[26] * x2) + (e[11] * r3 + e[27] * x3);
+            double n3 = (e[12] * r0 + e[28] * x0) + (e[13] * r1 + e[29] * x1) + (e[14] * r2 + e[30] * x2) + (e[15] * r3 + e[31] * x3);
+            r0 = n0; r1 = n1; r2 = n2; r3 = n3;
+            var o = output.Slice(4 * (k + 1), 4);
+            o[0] = r0; o[1] = r1; o[2] = r2; o[3] = r3;
+        }
+    }
+
+    /// <summary>One trajectory into <paramref name="output"/> (time-major, recorded components) from its deviates <paramref name="z"/> (n per time).</summary>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+    private void Run(ReadOnlySpan<double> z, Span<double> output)
+    {
+        int n = _n, c = _components.Length, nn = n * n;
         Span<double> r = stackalloc double[n];
         Span<double> next = stackalloc double[n];
-        Span<double> xi = stackalloc double[n];
-        for (int a = 0; a < n; a++) xi[a] = random.NextNormal();
-        MultiplyAdd(_factor0, xi, _mean0, r, n);
+        MultiplyAdd(_factor0, z[..n], _mean0, r, n);
         Record(r, output, 0, c);
         for (int k = 0; k < _stepOf.Length; k++)
         {
-            int s = _stepOf[k];
-            for (int a = 0; a < n; a++) xi[a] = random.NextNormal();
-            var phi = _phi[s];
-            var l = _factor[s];
+            var xi = z.Slice(n * (k + 1), n);
+            var phi = _steps.AsSpan(2 * nn * _stepOf[k], nn);
+            var l = _steps.AsSpan(2 * nn * _stepOf[k] + nn, nn);
             for (int a = 0; a < n; a++)
             {
                 double sum = 0;
@@ -166,7 +235,7 @@ public sealed class TrajectorySampler
 
     private void Record(ReadOnlySpan<double> r, Span<double> output, int time, int c)
     {
-        for (int j = 0; j < c; j++) output[time * c + j] = r[Components[j]];
+        for (int j = 0; j < c; j++) output[time * c + j] = r[_components[j]];
     }
 
     private static void MultiplyAdd(double[] m, ReadOnlySpan<double> v, double[] offset, Span<double> result, int n)
