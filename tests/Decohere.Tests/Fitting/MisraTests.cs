@@ -89,7 +89,7 @@ public class MisraTests
     }
 
     /// <summary>
-    /// An independent check of the transcription: plain Gauss–Newton with analytic Jacobian and MathNet's QR solve
+    /// An independent check of the recalled values: plain Gauss–Newton with analytic Jacobian and MathNet's QR solve
     /// (no code shared with the fitter), standard errors s·sqrt(diag (JᵀJ)⁻¹), s² = RSS/(n − p).
     /// </summary>
     [Fact]

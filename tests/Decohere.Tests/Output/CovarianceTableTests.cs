@@ -1,29 +1,13 @@
 using Decohere.Engine;
 using Decohere.Output;
 using Decohere.Scenarios;
-using DuckDB.NET.Data;
 
 namespace Decohere.Tests.Output;
 
 /// <summary>Our Parquet files read back by DuckDB, an independent Parquet implementation.</summary>
 public class CovarianceTableTests
 {
-    private static List<object?[]> Query(string sql)
-    {
-        using var connection = new DuckDBConnection("DataSource=:memory:");
-        connection.Open();
-        using var command = connection.CreateCommand();
-        command.CommandText = sql;
-        using var reader = command.ExecuteReader();
-        var rows = new List<object?[]>();
-        while (reader.Read())
-        {
-            var row = new object?[reader.FieldCount];
-            for (int i = 0; i < row.Length; i++) row[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
-            rows.Add(row);
-        }
-        return rows;
-    }
+    private static List<object?[]> Query(string sql) => DuckDb.Query(sql);
 
     [Fact]
     public async Task SchemaValuesAndMetadataReadBackThroughDuckDb()

@@ -1,7 +1,6 @@
 using System.CommandLine;
 using System.Text.Json.Nodes;
 using Decohere.Cli.Commands;
-using DuckDB.NET.Data;
 using Spectre.Console;
 using Commands = Decohere.Cli.Commands;
 
@@ -34,22 +33,7 @@ public sealed class PlanningCommandTests : IDisposable
         return Commands.Cli.InvokeAsync(root, args);
     }
 
-    private static List<object?[]> Query(string sql)
-    {
-        using var connection = new DuckDBConnection("Data Source=:memory:");
-        connection.Open();
-        using var command = connection.CreateCommand();
-        command.CommandText = sql;
-        using var reader = command.ExecuteReader();
-        var rows = new List<object?[]>();
-        while (reader.Read())
-        {
-            var row = new object?[reader.FieldCount];
-            for (int i = 0; i < row.Length; i++) row[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
-            rows.Add(row);
-        }
-        return rows;
-    }
+    private static List<object?[]> Query(string sql) => DuckDb.Query(sql);
 
     [Fact]
     public async Task Lifetime_OnDemo_WritesConsistentFiles()

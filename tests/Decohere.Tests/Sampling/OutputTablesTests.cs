@@ -1,28 +1,12 @@
 using System.Globalization;
 using Decohere.Cli.Commands;
 using Decohere.Scenarios;
-using DuckDB.NET.Data;
 
 namespace Decohere.Tests.Sampling;
 
 public class OutputTablesTests
 {
-    private static List<object[]> Query(string sql)
-    {
-        using var connection = new DuckDBConnection("DataSource=:memory:");
-        connection.Open();
-        using var command = connection.CreateCommand();
-        command.CommandText = sql;
-        using var reader = command.ExecuteReader();
-        var rows = new List<object[]>();
-        while (reader.Read())
-        {
-            var row = new object[reader.FieldCount];
-            reader.GetValues(row);
-            rows.Add(row);
-        }
-        return rows;
-    }
+    private static List<object[]> Query(string sql) => [.. DuckDb.Query(sql).Select(row => row.Select(v => v ?? DBNull.Value).ToArray())];
 
     [Fact]
     public async Task DemoRunWritesTablesThatAnIndependentReaderAgreesWith()

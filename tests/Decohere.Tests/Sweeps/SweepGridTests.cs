@@ -93,7 +93,7 @@ public class SweepGridTests
     public void PointSeedsAreSplitMix64()
     {
         // Reference outputs of splitmix64.c (S. Vigna) seeded with 0: 0xE220A8397B1DCDAF, 0x6E789E6AA1B965F4,
-        // 0x06C45D188009454F (recalled from memory and checked against an independent Python transcription);
+        // 0x06C45D188009454F (recalled from memory and checked against an independent Python implementation);
         // we keep the low 63 bits.
         Assert.Equal(0x6220A8397B1DCDAFL, PointSeeds.For(0, 0));
         Assert.Equal(0x6E789E6AA1B965F4L, PointSeeds.For(0, 1));

@@ -2,7 +2,6 @@ using Decohere.Output;
 using Decohere.Scenarios;
 using Decohere.Sweeps;
 using Decohere.Tests.Cli;
-using DuckDB.NET.Data;
 
 namespace Decohere.Tests.Sweeps;
 
@@ -12,22 +11,7 @@ public class SweepRunTests
     private static readonly string[] Vary =
         ["--vary", "stages.squeeze.tones[1].coupling=10kHz:26kHz:4", "--vary", "modes.drum.bath.temperature=5mK,15mK,50mK"];
 
-    private static List<object?[]> Query(string sql)
-    {
-        using var connection = new DuckDBConnection("DataSource=:memory:");
-        connection.Open();
-        using var command = connection.CreateCommand();
-        command.CommandText = sql;
-        using var reader = command.ExecuteReader();
-        var rows = new List<object?[]>();
-        while (reader.Read())
-        {
-            var row = new object?[reader.FieldCount];
-            for (int i = 0; i < row.Length; i++) row[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
-            rows.Add(row);
-        }
-        return rows;
-    }
+    private static List<object?[]> Query(string sql) => DuckDb.Query(sql);
 
     private static List<object?[]> Table(string path) => Query($"SELECT * FROM read_parquet('{path.Replace("'", "''")}') ORDER BY point");
 
