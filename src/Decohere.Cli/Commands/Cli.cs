@@ -15,6 +15,8 @@ public static class Cli
     public const int Failure = 1;
     /// <summary>Bad input: scenario, data file or command line.</summary>
     public const int BadInput = 2;
+    /// <summary>Stopped by Ctrl-C or SIGTERM (128 + SIGINT, the shell convention).</summary>
+    public const int Interrupted = 130;
 
     /// <summary>The console for tables and messages (stdout).</summary>
     public static IAnsiConsole Out { get; set; } = Wide(AnsiConsole.Console, Console.IsOutputRedirected);
@@ -40,7 +42,22 @@ public static class Cli
             Error.MarkupLine("Run with --help for usage.");
             return BadInput;
         }
-        return await parse.InvokeAsync();
+        // Our own stop signal instead of the parser's: its handler exits the process after a timeout, which would cut
+        // short the cleanup that deletes partial files. Here the commands see the cancellation and unwind normally.
+        using var stop = new CancellationTokenSource();
+        ConsoleCancelEventHandler onCancel = (_, e) => { e.Cancel = true; stop.Cancel(); };
+        Console.CancelKeyPress += onCancel;
+        using var onTerminate = System.Runtime.InteropServices.PosixSignalRegistration.Create(
+            System.Runtime.InteropServices.PosixSignal.SIGTERM, context => { context.Cancel = true; stop.Cancel(); });
+        try
+        {
+            int code = await parse.InvokeAsync(new InvocationConfiguration { ProcessTerminationTimeout = null }, stop.Token);
+            return stop.IsCancellationRequested ? Interrupted : code;
+        }
+        finally
+        {
+            Console.CancelKeyPress -= onCancel;
+        }
     }
 
     /// <summary>The optional scenario argument; without it the built-in demo runs.</summary>
@@ -92,7 +109,7 @@ public static class Cli
         }
         catch (OperationCanceledException)
         {
-            Error.MarkupLine("[yellow]stopped:[/] no partial output was kept.");
+            Error.MarkupLine("[yellow]stopped:[/] finished files are kept; no partial file is left.");
             return Failure;
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
