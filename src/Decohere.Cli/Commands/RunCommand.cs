@@ -1,8 +1,8 @@
 using System.CommandLine;
-using System.Text.Json.Nodes;
 using Decohere.Diagnostics;
 using Decohere.Engine;
 using Decohere.Output;
+using Decohere.Runs;
 using Decohere.Sampling;
 using Decohere.Scenarios;
 using Decohere.Statistics;
@@ -43,12 +43,19 @@ public static class RunCommand
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
             bool showProgress = !isQuiet && !Console.IsErrorRedirected;
-            var written = await Run(s, dir, cancel, nTrajectories, showProgress, chain =>
+            void OnReadout(ReadoutChain chain)
             {
                 if (!isQuiet && chain.Amplification is { } a)
                     Cli.Out.MarkupLineInterpolated(
                         $"amplification readout on cavity [bold]{a.Cavity}[/]: gain {a.Gain:G5} ({10 * Math.Log10(a.Gain):F1} dB), pulse added noise {a.PulseAddedNoise:G4} quanta at the output, input-referred added noise {a.AddedNoise:G4} quanta per quadrature");
-            });
+            }
+            var settings = new RunSettings(nTrajectories);
+            var written = showProgress
+                ? await Cli.Error.Progress()
+                    .AutoClear(true)
+                    .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
+                    .StartAsync(context => ScenarioRun.WriteAsync(s, dir, settings, new ProgressBars(context), OnReadout, cancel))
+                : await ScenarioRun.WriteAsync(s, dir, settings, null, OnReadout, cancel);
             if (!isQuiet)
             {
                 Cli.Out.Write(StageTable(written.Dynamics));
@@ -61,105 +68,15 @@ public static class RunCommand
         return command;
     }
 
-    /// <summary>What a run produced.</summary>
-    public sealed record RunOutput(Dynamics Dynamics, ScenarioReport Report, IReadOnlyList<string> Paths, SamplingOutput? Sampling = null);
-
-    /// <summary>The shots' estimates of a run with a readout.</summary>
-    public sealed record SamplingOutput(ShotSampler Sampler, IReadOnlyList<ReadoutEstimate> Estimates);
-
-    /// <summary>
-    /// Evolves a scenario and writes its outputs into <paramref name="directory"/>; with a readout also samples its shots,
-    /// and <paramref name="trajectories"/> trajectories when asked. summary.json is written last, so it describes only
-    /// complete outputs.
-    /// </summary>
-    public static async Task<RunOutput> Run(Scenario scenario, string directory, CancellationToken cancel,
-        int trajectories = 0, bool showProgress = false, Action<ReadoutChain>? onReadout = null, SamplerSettings? settings = null)
+    // Spectre progress bars on stderr, one per task the run starts.
+    private sealed class ProgressBars(ProgressContext context) : IRunProgress
     {
-        settings ??= SamplerSettings.Default;
-        var dynamics = Dynamics.Solve(scenario);
-        var evolution = Evolution.Run(dynamics);
-        var report = ScenarioReport.Of(dynamics);
-        var metadata = RunMetadata.For(scenario);
-        cancel.ThrowIfCancellationRequested();
-        Directory.CreateDirectory(directory);
-        string table = Path.Combine(directory, "covariance.parquet");
-        string summary = Path.Combine(directory, "summary.json");
-        string png = Path.Combine(directory, "variance.png"), svg = Path.Combine(directory, "variance.svg");
-        await CovarianceTable.WriteAsync(evolution, table, metadata, cancel);
-        cancel.ThrowIfCancellationRequested();
-        VariancePlot.Save(evolution, png, svg);
-        var paths = new List<string> { table, summary, png, svg };
-        var json = SummaryJson.Build(dynamics, report, metadata);
+        public IProgress<long> Start(string name, long total) => new Bar(context.AddTask(name, maxValue: total));
 
-        ShotSampler? sampler = scenario.Readout is null ? null : new ShotSampler(scenario, dynamics, settings);
-        if (sampler is not null) onReadout?.Invoke(sampler.Chain);
-        TrajectorySampler? trajectorySampler = null;
-        if (trajectories > 0)
+        private sealed class Bar(ProgressTask task) : IProgress<long>
         {
-            var modes = sampler is not null
-                ? [sampler.Chain.ModeIndex]
-                : dynamics.ModeNames.Select((n, j) => (n, j)).Where(p => scenario.ModeNamed(p.n).Kind == ModeKind.Mechanical).Select(p => p.j).ToArray();
-            trajectorySampler = new TrajectorySampler(dynamics, modes.SelectMany(j => new[] { 2 * j, 2 * j + 1 }), settings);
+            public void Report(long value) => task.Value = value;
         }
-
-        IReadOnlyList<ReadoutEstimate>? estimates = null;
-        await WithProgress(showProgress, sampler, trajectorySampler is null ? 0 : trajectories, async (shotProgress, trajectoryProgress) =>
-        {
-            if (sampler is not null)
-            {
-                string shotsPath = Path.Combine(directory, "shots.parquet");
-                await using (var shots = await ShotsTable.CreateAsync(shotsPath, sampler, metadata, cancel))
-                {
-                    var stats = await sampler.RunAsync(shots.WriteAsync, shotProgress, cancel);
-                    await shots.CommitAsync();
-                    estimates = [.. sampler.Delays.Select(d => ReadoutEstimator.Estimate(stats[d.Index], sampler.Chain.AddedNoise, d.Model,
-                        RandomStream.Derive(scenario.Seed, StreamPurpose.Bootstrap, d.Index), settings.BootstrapResamples, settings.Confidence))];
-                }
-                string estimatesPath = Path.Combine(directory, "estimates.parquet"), estimatesPng = Path.Combine(directory, "estimates.png");
-                await EstimatesTable.WriteAsync(estimatesPath, sampler, estimates!, settings.Confidence, metadata, cancel);
-                cancel.ThrowIfCancellationRequested();
-                EstimatesPlot.Save(sampler, estimates!, estimatesPng);
-                paths.AddRange([shotsPath, estimatesPath, estimatesPng]);
-                json["readout"] = ReadoutSummary.Build(sampler, estimates!, settings);
-            }
-            if (trajectorySampler is not null)
-            {
-                string trajectoriesPath = Path.Combine(directory, "trajectories.parquet");
-                await using var file = await TrajectoriesTable.CreateAsync(trajectoriesPath, trajectorySampler, metadata, cancel);
-                await trajectorySampler.RunAsync(trajectories, file.WriteAsync, trajectoryProgress, cancel);
-                await file.CommitAsync();
-                paths.Add(trajectoriesPath);
-                json["trajectories"] = new JsonObject { ["count"] = trajectories, ["times"] = trajectorySampler.Times.Length, ["seed"] = scenario.Seed };
-            }
-        });
-        cancel.ThrowIfCancellationRequested();
-        SummaryJson.Write(json, summary);
-        return new RunOutput(dynamics, report, paths, sampler is null ? null : new SamplingOutput(sampler, estimates!));
-    }
-
-    /// <summary>Runs the body with a progress bar on stderr (when asked) fed by the samplers' progress reports.</summary>
-    private static async Task WithProgress(bool show, ShotSampler? sampler, int trajectories,
-        Func<IProgress<long>?, IProgress<long>?, Task> body)
-    {
-        if (!show || (sampler is null && trajectories == 0))
-        {
-            await body(null, null);
-            return;
-        }
-        await Cli.Error.Progress()
-            .AutoClear(true)
-            .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
-            .StartAsync(async context =>
-            {
-                var shots = sampler is null ? null : context.AddTask("shots", maxValue: sampler.TotalShots);
-                var paths = trajectories == 0 ? null : context.AddTask("trajectories", maxValue: trajectories);
-                await body(shots is null ? null : new Reporter(shots), paths is null ? null : new Reporter(paths));
-            });
-    }
-
-    private sealed class Reporter(ProgressTask task) : IProgress<long>
-    {
-        public void Report(long value) => task.Value = value;
     }
 
     /// <summary>Per delay and quantity, the estimate with its interval beside the model's value and the z-score.</summary>
