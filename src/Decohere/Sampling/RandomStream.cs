@@ -47,6 +47,10 @@ public struct RandomStream
         return Mix(state);
     }
 
+    /// <summary>The <paramref name="index"/>-th output (from 0) of SplitMix64 started at <paramref name="seed"/>: a per-point seed that
+    /// depends on nothing but (seed, index), so results do not depend on order, threads or shards.</summary>
+    public static ulong SplitMix64At(long seed, long index) => Mix(unchecked((ulong)seed + 0x9E3779B97F4A7C15UL * ((ulong)index + 1)));
+
     /// <summary>The SplitMix64 output function (variant 13 of D. Stafford's 64-bit mixers).</summary>
     public static ulong Mix(ulong z)
     {

@@ -90,10 +90,7 @@ public static class ResolutionPower
     /// <summary>The random source of one grid point: the master seed and the point index mixed by SplitMix64 (seeded per point, so runs reproduce in any order).</summary>
     public static System.Random PointRandom(long seed, long index)
     {
-        ulong z = unchecked((ulong)seed + 0x9E3779B97F4A7C15UL * ((ulong)index + 1));
-        z = unchecked((z ^ (z >> 30)) * 0xBF58476D1CE4E5B9UL);
-        z = unchecked((z ^ (z >> 27)) * 0x94D049BB133111EBUL);
-        z ^= z >> 31;
+        ulong z = Sampling.RandomStream.SplitMix64At(seed, index);
         return new Xoshiro256StarStar(unchecked((int)(z ^ (z >> 32))));
     }
 

@@ -89,12 +89,5 @@ public static class PointSeeds
     /// non-negative <c>long</c> (G. L. Steele, D. Lea, C. H. Flood, "Fast splittable pseudorandom number generators",
     /// OOPSLA 2014; finaliser constants of S. Vigna's reference splitmix64.c).
     /// </summary>
-    public static long For(long scenarioSeed, long point)
-    {
-        ulong z = unchecked((ulong)scenarioSeed + 0x9E3779B97F4A7C15UL * ((ulong)point + 1));
-        z = unchecked((z ^ (z >> 30)) * 0xBF58476D1CE4E5B9UL);
-        z = unchecked((z ^ (z >> 27)) * 0x94D049BB133111EBUL);
-        z ^= z >> 31;
-        return (long)(z & long.MaxValue);
-    }
+    public static long For(long scenarioSeed, long point) => (long)(Sampling.RandomStream.SplitMix64At(scenarioSeed, point) & long.MaxValue);
 }
