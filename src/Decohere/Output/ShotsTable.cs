@@ -36,7 +36,7 @@ public sealed class ShotsTable : IAsyncDisposable
             ["decohere.readout_added_noise"] = sampler.Chain.AddedNoise.ToString("R", System.Globalization.CultureInfo.InvariantCulture),
             ["decohere.shots_per_delay"] = sampler.ShotsPerDelay.ToString(System.Globalization.CultureInfo.InvariantCulture),
         };
-        return new ShotsTable(await ParquetTable.CreateAsync(path, Columns, keys, cancel), sampler);
+        return new ShotsTable(await ParquetTable.CreateAsync(path, Columns, keys, cancel, new Parquet.ParquetOptions { DictionaryEncodingThreshold = 0 }), sampler);
     }
 
     /// <summary>The sink to hand to <see cref="ShotSampler.RunAsync"/>.</summary>
