@@ -23,6 +23,20 @@ public class InterruptTests
         foreach (var a in new[] { Path.Combine(AppContext.BaseDirectory, "decohere.dll"), "run", scenario, "--out", output, "-q" })
             info.ArgumentList.Add(a);
         using var process = Process.Start(info)!;
+        try
+        {
+            await StopAndCheck(process, output, signal);
+        }
+        finally
+        {
+            // A run that ignored the signal would go on writing gigabytes: never leave it behind.
+            if (!process.HasExited) process.Kill(entireProcessTree: true);
+            Directory.Delete(dir, recursive: true);
+        }
+    }
+
+    private static async Task StopAndCheck(Process process, string output, int signal)
+    {
         var stderr = process.StandardError.ReadToEndAsync();
         _ = process.StandardOutput.ReadToEndAsync();
         // Wait until the shots are being written, then stop the run.
@@ -37,6 +51,5 @@ public class InterruptTests
         Assert.Empty(Directory.GetFiles(output, "*.partial-*"));
         Assert.False(File.Exists(Path.Combine(output, "shots.parquet")));
         Assert.True(File.Exists(Path.Combine(output, "covariance.parquet")));   // finished before the stop, so kept
-        Directory.Delete(dir, recursive: true);
     }
 }
