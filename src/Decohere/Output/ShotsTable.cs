@@ -15,28 +15,30 @@ public sealed class ShotsTable : IAsyncDisposable
         ColumnSpec.Double("i"), ColumnSpec.Double("q"), ColumnSpec.Double("x"), ColumnSpec.Double("p"),
     ];
 
-    private readonly ParquetTable _table;
+    private readonly PlainParquetWriter _table;
     private readonly ShotSampler _sampler;
     private long[] _shot = [];
     private double[] _delay = [], _time = [];
-    private ReadOnlyMemory<char>[] _mode = [];
+    private readonly string[] _mode;
     private int _filledDelay = -1;
 
-    private ShotsTable(ParquetTable table, ShotSampler sampler)
+    private ShotsTable(PlainParquetWriter table, ShotSampler sampler)
     {
         _table = table;
         _sampler = sampler;
+        _mode = [sampler.Chain.Mode];   // one value, repeated on every row by the writer
     }
 
     /// <summary>Opens shots.parquet for the sampler's readout; commit with <see cref="CommitAsync"/>, or dispose to discard.</summary>
-    public static async Task<ShotsTable> CreateAsync(string path, ShotSampler sampler, RunMetadata metadata, CancellationToken cancel = default)
+    public static Task<ShotsTable> CreateAsync(string path, ShotSampler sampler, RunMetadata metadata, CancellationToken cancel = default)
     {
+        cancel.ThrowIfCancellationRequested();
         var keys = new Dictionary<string, string>(metadata.ToKeyValues())
         {
             ["decohere.readout_added_noise"] = sampler.Chain.AddedNoise.ToString("R", System.Globalization.CultureInfo.InvariantCulture),
             ["decohere.shots_per_delay"] = sampler.ShotsPerDelay.ToString(System.Globalization.CultureInfo.InvariantCulture),
         };
-        return new ShotsTable(await ParquetTable.CreateAsync(path, Columns, keys, cancel, new Parquet.ParquetOptions { DictionaryEncodingThreshold = 0 }), sampler);
+        return Task.FromResult(new ShotsTable(new PlainParquetWriter(path, Columns, keys), sampler));
     }
 
     /// <summary>The sink to hand to <see cref="ShotSampler.RunAsync"/>.</summary>
@@ -48,9 +50,6 @@ public sealed class ShotsTable : IAsyncDisposable
             _shot = new long[n];
             _delay = new double[n];
             _time = new double[n];
-            // One shared character buffer for every row: the writer encodes it without building a string per row.
-            _mode = new ReadOnlyMemory<char>[n];
-            Array.Fill(_mode, _sampler.Chain.Mode.AsMemory());
             _filledDelay = -1;
         }
         if (_filledDelay != batch.Delay)
@@ -63,7 +62,9 @@ public sealed class ShotsTable : IAsyncDisposable
         long first = batch.FirstShot;
         var shot = _shot.AsSpan(0, n);
         for (int k = 0; k < shot.Length; k++) shot[k] = first + k;
-        await _table.WriteRowGroupAsync(n, [_shot, _delay, _time, _mode, batch.I, batch.Q, batch.X, batch.P], cancel);
+        cancel.ThrowIfCancellationRequested();
+        _table.WriteRowGroup(n, [_shot, _delay, _time, _mode, batch.I, batch.Q, batch.X, batch.P]);
+        await Task.CompletedTask;
     }
 
     /// <summary>Finishes the file and moves it to its final name.</summary>
