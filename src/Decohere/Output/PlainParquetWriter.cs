@@ -6,7 +6,8 @@ namespace Decohere.Output;
 
 /// <summary>
 /// A minimal Parquet writer for wide streams of shots: flat tables of required float64, int64 and UTF-8 columns, PLAIN
-/// encoding, no compression, one data page per column chunk, and the footer in the Thrift compact protocol (Apache
+/// encoding (a column constant over a row group as a one-entry dictionary and a single RLE run, so it costs a few bytes),
+/// no compression, one data page per column chunk, and the footer in the Thrift compact protocol (Apache
 /// Parquet format specification, parquet-format 2.x, "File format" and "Data pages"; Apache Thrift compact protocol
 /// specification). Writing is a copy of the column arrays, which a general writer's per-value encoding cannot match:
 /// shots.parquet carries tens of millions of rows per second. Committed atomically like <see cref="ParquetTable"/>.
@@ -18,7 +19,10 @@ public sealed class PlainParquetWriter : IAsyncDisposable
     private readonly FileStream _stream;
     private readonly ColumnSpec[] _columns;
     private readonly Dictionary<string, string> _metadata;
-    private readonly List<(long Rows, long Bytes, (long Offset, long Size, long Values)[] Chunks)> _rowGroups = [];
+    private readonly List<(long Rows, long Bytes, Chunk[] Chunks)> _rowGroups = [];
+
+    // Where a column chunk sits: its first page, the data page, its size; a dictionary page comes first when there is one.
+    private readonly record struct Chunk(long Start, long DataPage, long Size, long Values, bool Dictionary);
     private readonly byte[] _header = new byte[64];
     private bool _closed;
 
@@ -36,76 +40,86 @@ public sealed class PlainParquetWriter : IAsyncDisposable
     }
 
     /// <summary>
-    /// Writes one row group: one array per column in schema order (double[], long[], or string[] — for text, an array of
-    /// one element repeats that value on every row), each holding at least <paramref name="rows"/> values.
+    /// Writes one row group: one array per column in schema order (double[], long[] or string[]) holding at least
+    /// <paramref name="rows"/> values; an array of exactly one element stands for that value on every row.
     /// </summary>
     public void WriteRowGroup(int rows, IReadOnlyList<Array> data)
     {
         if (data.Count != _columns.Length) throw new ArgumentException($"expected {_columns.Length} columns, got {data.Count}", nameof(data));
-        var chunks = new (long, long, long)[_columns.Length];
+        for (int c = 0; c < data.Count; c++)
+            if (data[c].Length != 1 && data[c].Length < rows)
+                throw new ArgumentException($"column {_columns[c].Name}: {data[c].Length} values for {rows} rows", nameof(data));
+        var chunks = new Chunk[_columns.Length];
         long start = _stream.Position;
         for (int c = 0; c < _columns.Length; c++)
         {
             long offset = _stream.Position;
-            switch (data[c])
-            {
-                case double[] d: WritePage(rows, MemoryMarshal.AsBytes(d.AsSpan(0, rows))); break;
-                case long[] l: WritePage(rows, MemoryMarshal.AsBytes(l.AsSpan(0, rows))); break;
-                case string[] s: WriteText(rows, s); break;
-                default: throw new ArgumentException($"column {_columns[c].Name}: unsupported array {data[c].GetType().Name}");
-            }
-            chunks[c] = (offset, _stream.Position - offset, rows);
+            var column = data[c];
+            bool constant = column.Length == 1;
+            if (constant)
+                WriteDictionaryPage(Plain(column, 1));
+            long dataPage = _stream.Position;
+            if (constant)
+                WriteConstantPage(rows);
+            else
+                WritePage(rows, 0, Plain(column, rows));
+            chunks[c] = new Chunk(offset, dataPage, _stream.Position - offset, rows, constant);
         }
         _rowGroups.Add((rows, _stream.Position - start, chunks));
     }
 
-    private void WritePage(int rows, ReadOnlySpan<byte> values)
+    // PLAIN encoding: numbers as little-endian bytes; byte arrays as a 4-byte little-endian length and the UTF-8 bytes.
+    private static ReadOnlySpan<byte> Plain(Array column, int rows) => column switch
     {
-        WritePageHeader(rows, values.Length);
-        _stream.Write(values);
-    }
+        double[] d => MemoryMarshal.AsBytes(d.AsSpan(0, rows)),
+        long[] l => MemoryMarshal.AsBytes(l.AsSpan(0, rows)),
+        string[] s => s.Take(rows).SelectMany(v => BitConverter.GetBytes(Encoding.UTF8.GetByteCount(v)).Concat(Encoding.UTF8.GetBytes(v))).ToArray(),
+        _ => throw new ArgumentException($"unsupported column array {column.GetType().Name}"),
+    };
 
-    private void WriteText(int rows, string[] values)
-    {
-        // PLAIN byte arrays: a 4-byte little-endian length before each value's UTF-8 bytes.
-        var encoded = values.Select(v => Encoding.UTF8.GetBytes(v)).ToArray();
-        long size = 0;
-        for (int i = 0; i < rows; i++) size += 4 + encoded[encoded.Length == 1 ? 0 : i].Length;
-        WritePageHeader(rows, checked((int)size));
-        Span<byte> length = stackalloc byte[4];
-        if (encoded.Length == 1)
-        {
-            // One value on every row: build a block of repeats once and copy it.
-            byte[] one = [.. BitConverter.GetBytes(encoded[0].Length), .. encoded[0]];
-            int perBlock = Math.Max(1, (1 << 16) / one.Length);
-            var block = new byte[perBlock * one.Length];
-            for (int i = 0; i < perBlock; i++) one.CopyTo(block, i * one.Length);
-            for (int done = 0; done < rows; done += perBlock)
-                _stream.Write(block, 0, Math.Min(perBlock, rows - done) * one.Length);
-            return;
-        }
-        for (int i = 0; i < rows; i++)
-        {
-            BinaryPrimitives.WriteInt32LittleEndian(length, encoded[i].Length);
-            _stream.Write(length);
-            _stream.Write(encoded[i]);
-        }
-    }
-
-    private void WritePageHeader(int rows, int size)
+    private void WritePage(int rows, int encoding, ReadOnlySpan<byte> values)
     {
         var t = new ThriftWriter();
         t.I32(1, 0);              // type: DATA_PAGE
-        t.I32(2, size);           // uncompressed_page_size
-        t.I32(3, size);           // compressed_page_size
+        t.I32(2, values.Length);  // uncompressed_page_size
+        t.I32(3, values.Length);  // compressed_page_size
         t.BeginStruct(5);         // data_page_header
         t.I32(1, rows);           // num_values
-        t.I32(2, 0);              // encoding: PLAIN
-        t.I32(3, 3);              // definition_level_encoding: RLE (no levels: every column is required)
+        t.I32(2, encoding);       // encoding: PLAIN (0) or PLAIN_DICTIONARY (2)
+        t.I32(3, 3);              // definition_level_encoding: RLE (no levels are written: every column is required)
         t.I32(4, 3);              // repetition_level_encoding: RLE
         t.EndStruct();
         t.Stop();
         _stream.Write(t.Bytes);
+        _stream.Write(values);
+    }
+
+    private void WriteDictionaryPage(ReadOnlySpan<byte> value)
+    {
+        var t = new ThriftWriter();
+        t.I32(1, 2);              // type: DICTIONARY_PAGE
+        t.I32(2, value.Length);
+        t.I32(3, value.Length);
+        t.BeginStruct(7);         // dictionary_page_header
+        t.I32(1, 1);              // num_values: one entry
+        t.I32(2, 2);              // encoding: PLAIN_DICTIONARY
+        t.EndStruct();
+        t.Stop();
+        _stream.Write(t.Bytes);
+        _stream.Write(value);
+    }
+
+    // Every row points at dictionary entry 0: bit width 1, then one RLE run (header = count << 1) of the value 0.
+    private void WriteConstantPage(int rows)
+    {
+        var run = new List<byte> { 1 };
+        for (ulong v = (ulong)rows << 1; ; v >>= 7)
+        {
+            if (v < 0x80) { run.Add((byte)v); break; }
+            run.Add((byte)(v | 0x80));
+        }
+        run.Add(0);
+        WritePage(rows, 2, CollectionsMarshal.AsSpan(run));
     }
 
     private byte[] Footer()
@@ -135,18 +149,19 @@ public sealed class PlainParquetWriter : IAsyncDisposable
             t.BeginList(1, ThriftWriter.Struct, _columns.Length);    // columns
             for (int c = 0; c < _columns.Length; c++)
             {
-                var (offset, size, values) = g.Chunks[c];
+                var chunk = g.Chunks[c];
                 t.BeginElement();
-                t.I64(2, offset);                                     // file_offset
+                t.I64(2, chunk.Start);                                // file_offset
                 t.BeginStruct(3);                                     // meta_data
                 t.I32(1, TypeOf(_columns[c]));
-                t.BeginList(2, ThriftWriter.I32Type, 2); t.ListI32(0); t.ListI32(3);   // encodings: PLAIN, RLE
+                t.BeginList(2, ThriftWriter.I32Type, 2); t.ListI32(chunk.Dictionary ? 2 : 0); t.ListI32(3);   // encodings
                 t.BeginList(3, ThriftWriter.Binary, 1); t.ListString(_columns[c].Name); // path_in_schema
                 t.I32(4, 0);                                          // codec: UNCOMPRESSED
-                t.I64(5, values);
-                t.I64(6, size);
-                t.I64(7, size);
-                t.I64(9, offset);                                     // data_page_offset
+                t.I64(5, chunk.Values);
+                t.I64(6, chunk.Size);
+                t.I64(7, chunk.Size);
+                t.I64(9, chunk.DataPage);                             // data_page_offset
+                if (chunk.Dictionary) t.I64(11, chunk.Start);         // dictionary_page_offset
                 t.EndStruct();
                 t.EndElement();
             }

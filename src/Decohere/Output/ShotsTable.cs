@@ -18,9 +18,9 @@ public sealed class ShotsTable : IAsyncDisposable
     private readonly PlainParquetWriter _table;
     private readonly ShotSampler _sampler;
     private long[] _shot = [];
-    private double[] _delay = [], _time = [];
+    // One-element arrays: the value on every row of the batch (the writer stores them as a one-entry dictionary).
+    private readonly double[] _delay = new double[1], _time = new double[1];
     private readonly string[] _mode;
-    private int _filledDelay = -1;
 
     private ShotsTable(PlainParquetWriter table, ShotSampler sampler)
     {
@@ -42,29 +42,19 @@ public sealed class ShotsTable : IAsyncDisposable
     }
 
     /// <summary>The sink to hand to <see cref="ShotSampler.RunAsync"/>.</summary>
-    public async ValueTask WriteAsync(ShotBatch batch, CancellationToken cancel)
+    public ValueTask WriteAsync(ShotBatch batch, CancellationToken cancel)
     {
+        cancel.ThrowIfCancellationRequested();
         int n = batch.Count;
-        if (_shot.Length < n)
-        {
-            _shot = new long[n];
-            _delay = new double[n];
-            _time = new double[n];
-            _filledDelay = -1;
-        }
-        if (_filledDelay != batch.Delay)
-        {
-            var delay = _sampler.Delays[batch.Delay];
-            Array.Fill(_delay, delay.DelayS);
-            Array.Fill(_time, delay.TimeS);
-            _filledDelay = batch.Delay;
-        }
+        if (_shot.Length < n) _shot = new long[n];
+        var delay = _sampler.Delays[batch.Delay];
+        _delay[0] = delay.DelayS;
+        _time[0] = delay.TimeS;
         long first = batch.FirstShot;
         var shot = _shot.AsSpan(0, n);
         for (int k = 0; k < shot.Length; k++) shot[k] = first + k;
-        cancel.ThrowIfCancellationRequested();
         _table.WriteRowGroup(n, [_shot, _delay, _time, _mode, batch.I, batch.Q, batch.X, batch.P]);
-        await Task.CompletedTask;
+        return ValueTask.CompletedTask;
     }
 
     /// <summary>Finishes the file and moves it to its final name.</summary>
