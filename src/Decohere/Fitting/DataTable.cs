@@ -130,6 +130,8 @@ public sealed class DataTable
 
     private static List<string> Split(string line)
     {
+        // Most numeric files quote nothing: split directly.
+        if (!line.Contains('"')) return [.. line.Split(',')];
         var fields = new List<string>();
         var current = new System.Text.StringBuilder();
         bool quoted = false;
