@@ -104,27 +104,9 @@ public static class LifetimeOutput
         threshold.Color = Colors.Black;
         threshold.LinePattern = LinePattern.Dotted;
         threshold.LegendText = $"threshold {c.ThresholdDb:G3} dB";
-        if (c.PhysicalLifetimeS is > 0 and var tp)
-        {
-            var v = plot.Add.VerticalLine(tp * 1e3);
-            v.Color = Colors.FireBrick;
-            v.LineWidth = 2;
-            v.LegendText = $"physical lifetime {tp * 1e3:G4} ms";
-        }
-        if (c.ApproximateLifetimeS is > 0 and var ta)
-        {
-            var v = plot.Add.VerticalLine(ta * 1e3);
-            v.Color = Colors.FireBrick;
-            v.LinePattern = LinePattern.Dashed;
-            v.LegendText = $"single-mode t* {ta * 1e3:G4} ms";
-        }
-        if (c.ObservableLifetimeS is > 0 and var to)
-        {
-            var v = plot.Add.VerticalLine(to * 1e3);
-            v.Color = Colors.DarkGreen;
-            v.LineWidth = 2;
-            v.LegendText = $"observable lifetime {to * 1e3:G4} ms";
-        }
+        Marker(plot, c.PhysicalLifetimeS, Colors.FireBrick, dashed: false, "physical lifetime");
+        Marker(plot, c.ApproximateLifetimeS, Colors.FireBrick, dashed: true, "single-mode t*");
+        Marker(plot, c.ObservableLifetimeS, Colors.DarkGreen, dashed: false, "observable lifetime");
         if (c.Readout is { } r)
         {
             var p = plot.Add.ScatterLine(ms, power.Select(x => x ?? double.NaN).ToArray());
@@ -146,5 +128,16 @@ public static class LifetimeOutput
         plot.Title($"{report.Scenario.Name}: squeezing lifetime of {c.Mode}");
         plot.ShowLegend(Alignment.UpperRight);
         return plot;
+    }
+
+    // A vertical line at a lifetime (s, drawn in ms), when it exists and is positive; dashed for the approximation.
+    private static void Marker(Plot plot, double? lifetimeS, Color color, bool dashed, string label)
+    {
+        if (lifetimeS is not (> 0 and var t)) return;
+        var line = plot.Add.VerticalLine(t * 1e3);
+        line.Color = color;
+        if (dashed) line.LinePattern = LinePattern.Dashed;
+        else line.LineWidth = 2;
+        line.LegendText = $"{label} {t * 1e3:G4} ms";
     }
 }

@@ -50,16 +50,15 @@ public sealed class ParquetTable : IAsyncDisposable
     /// <param name="columns">The schema.</param>
     /// <param name="metadata">Footer key-value metadata.</param>
     /// <param name="cancel">Cancels the opening.</param>
-    /// <param name="options">Writer options (compression, dictionary threshold); null: Parquet.Net's defaults (Snappy).</param>
     public static async Task<ParquetTable> CreateAsync(string path, IReadOnlyList<ColumnSpec> columns,
-        IReadOnlyDictionary<string, string> metadata, CancellationToken cancel = default, ParquetOptions? options = null)
+        IReadOnlyDictionary<string, string> metadata, CancellationToken cancel = default)
     {
         var file = new AtomicFile(path);
         var fields = columns.Select(c => c.Type == typeof(double?)
             ? new DataField(c.Name, typeof(double), isNullable: true)
             : new DataField(c.Name, c.Type, isNullable: false)).ToArray();
         var stream = new FileStream(file.TemporaryPath, FileMode.Create, FileAccess.ReadWrite, FileShare.None, 1 << 16);
-        var writer = await ParquetWriter.CreateAsync(new ParquetSchema(fields), stream, options, cancellationToken: cancel);
+        var writer = await ParquetWriter.CreateAsync(new ParquetSchema(fields), stream, cancellationToken: cancel);
         writer.CustomMetadata = metadata.ToDictionary();
         return new ParquetTable(file, stream, writer, fields, [.. columns]);
     }

@@ -231,14 +231,7 @@ public sealed class ShotSampler
             {
                 double l00 = _l00, l01 = _l01, l10 = _l10, l11 = _l11, mx = _meanX, mp = _meanP, s = _noise;
                 for (int k = 0; k < count; k++)
-                {
-                    double z1 = random.NextNormal(), z2 = random.NextNormal();
-                    double xk = mx + l00 * z1 + l01 * z2, pk = mp + l10 * z1 + l11 * z2;
-                    x[k] = xk;
-                    p[k] = pk;
-                    i[k] = xk + s * random.NextNormal();
-                    q[k] = pk + s * random.NextNormal();
-                }
+                    Draw(ref random, l00, l01, l10, l11, mx, mp, s, out x[k], out p[k], out i[k], out q[k]);
                 return;
             }
             var parameters = RandomStream.For(scenario.Seed, StreamPurpose.Jitter, _delay.Index, blockIndex);
@@ -248,13 +241,20 @@ public sealed class ShotSampler
                 var state = Dynamics.Solve(shotScenario).StateAt(_delay.TimeS);
                 var (l00, l01, l10, l11) = Factor(state, _owner.Chain.ModeIndex);
                 double mx = state.Mean[2 * _owner.Chain.ModeIndex], mp = state.Mean[2 * _owner.Chain.ModeIndex + 1];
-                double z1 = random.NextNormal(), z2 = random.NextNormal();
-                double xk = mx + l00 * z1 + l01 * z2, pk = mp + l10 * z1 + l11 * z2;
-                x[k] = xk;
-                p[k] = pk;
-                i[k] = xk + _noise * random.NextNormal();
-                q[k] = pk + _noise * random.NextNormal();
+                Draw(ref random, l00, l01, l10, l11, mx, mp, _noise, out x[k], out p[k], out i[k], out q[k]);
             }
+        }
+
+        // One shot: (x, p) = mean + L·(z₁, z₂) with L the 2×2 factor of the mode's covariance, then readout noise of σ = √n_add.
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
+        private static void Draw(ref RandomStream random, double l00, double l01, double l10, double l11, double mx, double mp, double noise,
+            out double x, out double p, out double i, out double q)
+        {
+            double z1 = random.NextNormal(), z2 = random.NextNormal();
+            x = mx + l00 * z1 + l01 * z2;
+            p = mp + l10 * z1 + l11 * z2;
+            i = x + noise * random.NextNormal();
+            q = p + noise * random.NextNormal();
         }
     }
 }

@@ -16,6 +16,7 @@ public sealed class SweepPoint(long index, long seed, Scenario scenario)
 {
     private Dynamics? _dynamics;
     private readonly Stability?[] _stability = new Stability?[scenario.Stages.Length];
+    private readonly Planning.LifetimeCore?[] _lifetimes = new Planning.LifetimeCore?[scenario.Stages.Length];
 
     /// <summary>Point index in the grid.</summary>
     public long Index { get; } = index;
@@ -32,6 +33,11 @@ public sealed class SweepPoint(long index, long seed, Scenario scenario)
     /// <summary>Stability of a stage, straight from its drift (so it is reported even when the dynamics cannot be solved).</summary>
     public Stability Stability(int stage) =>
         _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Engine.Stability.Of(ModelBuilder.Build(Scenario, Scenario.Stages[stage]).Drift);
+
+    /// <summary>The lifetimes after a stage (no sensitivities), computed once and shared by the lifetime metrics.</summary>
+    public Planning.LifetimeCore Lifetimes(int stage) =>
+        _lifetimes[stage] ??= Planning.LifetimeAnalysis.Analyze(Scenario,
+            new Planning.LifetimeSettings { AfterStage = Scenario.Stages[stage].Name, Sensitivities = false, CurvePoints = 2 });
 }
 
 /// <summary>A metric bound to a sweep: its canonical spec (<c>steady_squeezing_db:squeeze</c>), column name (unit in the name) and function.</summary>
@@ -162,9 +168,8 @@ public static class Metrics
     {
         int stage = StageArgument(s, arg, name);
         string stageName = s.Stages[stage].Name;
-        var settings = new Planning.LifetimeSettings { AfterStage = stageName, Sensitivities = false, CurvePoints = 2 };
         return new Metric($"{name}:{stageName}", $"{name}_s.{stageName}", $"{name} after stage {stageName}",
-            p => pick(Planning.LifetimeAnalysis.Analyze(p.Scenario, settings)) is var (value, status) && value is { } v
+            p => pick(p.Lifetimes(stage)) is var (value, status) && value is { } v
                 ? v
                 : throw new InvalidOperationException($"{name}: {status}"));
     }
