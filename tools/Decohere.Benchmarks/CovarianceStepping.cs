@@ -54,7 +54,7 @@ public class CovarianceTableWrite
     {
         var dynamics = Dynamics.Solve(_scenario);
         var evolution = Evolution.Run(dynamics);
-        await Decohere.Output.CovarianceTable.WriteAsync(evolution, _path, Decohere.Output.RunMetadata.For(_scenario));
+        await Decohere.Reports.CovarianceTable.WriteAsync(evolution, _path, Decohere.Core.Provenance.For(_scenario));
         return evolution.Times.Length * evolution.ModeNames.Length;
     }
 

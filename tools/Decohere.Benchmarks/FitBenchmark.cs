@@ -1,8 +1,11 @@
+using BenchmarkDotNet.Attributes;
 using System.Globalization;
 using System.Text;
-using BenchmarkDotNet.Attributes;
-using Decohere.Fitting;
+using Decohere.Analyses.Calibration;
+using Decohere.Analyses.Fitting;
+using Decohere.IO;
 using Decohere.Scenarios;
+using Decohere.Statistics;
 
 namespace Decohere.Benchmarks;
 

@@ -1,7 +1,9 @@
 using BenchmarkDotNet.Attributes;
 using BenchmarkDotNet.Engines;
+using Decohere.Core;
 using Decohere.Engine;
-using Decohere.Output;
+using Decohere.IO;
+using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;
 
@@ -60,7 +62,7 @@ public class SamplingBenchmarks
     {
         var one = new ShotSampler(_scenario with { Readout = _scenario.Readout! with { DelaysS = [0.001] } }, _sampler.Dynamics, shotsPerDelay: Shots);
         string path = Path.Combine(Path.GetTempPath(), $"decohere-bench-{Environment.ProcessId}.parquet");
-        await using (var table = await ShotsTable.CreateAsync(path, one, RunMetadata.For(_scenario)))
+        await using (var table = await ShotsTable.CreateAsync(path, one, Provenance.For(_scenario)))
         {
             await one.RunAsync(table.WriteAsync);
             await table.CommitAsync();

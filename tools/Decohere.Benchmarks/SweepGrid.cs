@@ -1,6 +1,6 @@
 using BenchmarkDotNet.Attributes;
+using Decohere.Analyses.Sweeps;
 using Decohere.Scenarios;
-using Decohere.Sweeps;
 
 namespace Decohere.Benchmarks;
 

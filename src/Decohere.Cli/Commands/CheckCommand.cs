@@ -1,8 +1,8 @@
-using System.CommandLine;
-using Decohere.Diagnostics;
-using Decohere.Engine;
-using Decohere.Units;
 using Spectre.Console;
+using System.CommandLine;
+using Decohere.Analyses.Check;
+using Decohere.Core;
+using Decohere.Engine;
 
 namespace Decohere.Cli.Commands;
 

@@ -1,8 +1,8 @@
+using Spectre.Console;
 using System.CommandLine;
-using Decohere;
+using Decohere.Core;
 using Decohere.Numerics;
 using Decohere.Scenarios;
-using Spectre.Console;
 
 namespace Decohere.Cli.Commands;
 

@@ -1,8 +1,11 @@
-using System.CommandLine;
-using Decohere.Fitting;
-using Decohere.Output;
-using Decohere.Units;
 using Spectre.Console;
+using System.CommandLine;
+using Decohere.Analyses.Calibration;
+using Decohere.Analyses.Fitting;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Reports;
+using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 

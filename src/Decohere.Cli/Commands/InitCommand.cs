@@ -1,7 +1,9 @@
-using System.CommandLine;
-using Decohere.Output;
-using Decohere.Scenarios;
 using Spectre.Console;
+using System.CommandLine;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Reports;
+using Decohere.Scenarios;
 
 namespace Decohere.Cli.Commands;
 

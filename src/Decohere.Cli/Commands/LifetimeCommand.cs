@@ -1,8 +1,12 @@
-using System.CommandLine;
-using Decohere.Output;
-using Decohere.Planning;
-using Decohere.Units;
 using Spectre.Console;
+using System.CommandLine;
+using Decohere.Analyses.Lifetime;
+using Decohere.Analyses.Tolerance;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Numerics;
+using Decohere.Reports;
+using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 

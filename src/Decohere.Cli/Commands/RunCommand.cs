@@ -1,12 +1,14 @@
+using Spectre.Console;
 using System.CommandLine;
-using Decohere.Diagnostics;
+using Decohere.Analyses.Check;
+using Decohere.Analyses.Runs;
+using Decohere.Core;
 using Decohere.Engine;
-using Decohere.Output;
-using Decohere.Runs;
+using Decohere.IO;
+using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;
 using Decohere.Statistics;
-using Spectre.Console;
 
 namespace Decohere.Cli.Commands;
 
@@ -97,7 +99,7 @@ public static class RunCommand
                 var v = values[q];
                 string format = q == values.Length - 1 ? "F2" : "G4";
                 string colour = Math.Abs(v.Z) > 3 ? "red" : "default";
-                table.AddRow(q == 0 ? Markup.Escape(Units.Quantity.Format(sampler.Delays[k].DelayS, Units.Dimension.Time)) : "", names[q],
+                table.AddRow(q == 0 ? Markup.Escape(Quantity.Format(sampler.Delays[k].DelayS, Dimension.Time)) : "", names[q],
                     N(v.Value, format), $"[[{N(v.Low, format)}, {N(v.High, format)}]]", N(v.Model, format), $"[{colour}]{N(v.Z, "F1")}[/]");
             }
         }

@@ -1,7 +1,9 @@
-using System.CommandLine;
-using Decohere.Output;
-using Decohere.Sweeps;
 using Spectre.Console;
+using System.CommandLine;
+using Decohere.Analyses.Sweeps;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Reports;
 
 namespace Decohere.Cli.Commands;
 

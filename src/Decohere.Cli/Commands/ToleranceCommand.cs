@@ -1,10 +1,14 @@
+using Spectre.Console;
 using System.Collections.Immutable;
 using System.CommandLine;
 using System.Globalization;
-using Decohere.Output;
-using Decohere.Planning;
-using Decohere.Units;
-using Spectre.Console;
+using Decohere.Analyses.Lifetime;
+using Decohere.Analyses.Tolerance;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Numerics;
+using Decohere.Reports;
+using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 

@@ -1,5 +1,5 @@
-using System.Collections.Immutable;
 using MathNet.Numerics.LinearAlgebra;
+using System.Collections.Immutable;
 using Decohere.Model;
 using Decohere.Numerics;
 using Decohere.Scenarios;

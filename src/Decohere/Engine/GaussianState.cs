@@ -1,5 +1,5 @@
-using System.Collections.Immutable;
 using MathNet.Numerics.LinearAlgebra;
+using System.Collections.Immutable;
 
 namespace Decohere.Engine;
 

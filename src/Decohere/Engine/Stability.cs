@@ -1,5 +1,5 @@
-using System.Numerics;
 using MathNet.Numerics.LinearAlgebra;
+using System.Numerics;
 
 namespace Decohere.Engine;
 

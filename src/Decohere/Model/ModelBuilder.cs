@@ -1,5 +1,6 @@
 using System.Collections.Immutable;
 using System.Numerics;
+using Decohere.Core;
 using Decohere.Scenarios;
 
 namespace Decohere.Model;
@@ -24,11 +25,11 @@ public static class ModelBuilder
             int j = index[mode.Name];
             system.AddDamping(j, mode.DecayRate, scenario.BathOf(mode, stage).Occupancy);
             if (stage.DetuningsHz.TryGetValue(mode.Name, out double delta))
-                system.AddDetuning(j, Units.Physics.Angular(delta));
+                system.AddDetuning(j, Physics.Angular(delta));
         }
         foreach (var c in scenario.Couplings)
         {
-            double g = Units.Physics.Angular(c.RateHz);
+            double g = Physics.Angular(c.RateHz);
             if (c.Kind == CouplingKind.BeamSplitter) system.AddBeamSplitter(index[c.ModeA], index[c.ModeB], g);
             else system.AddTwoModeSqueezing(index[c.ModeA], index[c.ModeB], g);
         }
@@ -37,7 +38,7 @@ public static class ModelBuilder
         {
             foreach (var tone in stage.Tones)
             {
-                double g = Units.Physics.Angular(tone.CouplingHz);
+                double g = Physics.Angular(tone.CouplingHz);
                 // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
                 if (tone.Sideband == Sideband.Red) system.AddBeamSplitter(index[tone.Cavity], index[tone.Mechanical], g);
                 else system.AddTwoModeSqueezing(index[tone.Cavity], index[tone.Mechanical], g);
@@ -64,7 +65,7 @@ public static class ModelBuilder
             double nc = scenario.BathOf(cavity, stage).Occupancy;
             var terms = group.Select(t =>
             {
-                double g = 2 * Units.Physics.Angular(t.CouplingHz) / Math.Sqrt(kappa);
+                double g = 2 * Physics.Angular(t.CouplingHz) / Math.Sqrt(kappa);
                 return t.Sideband == Sideband.Red
                     ? (index[t.Mechanical], (Complex)g, Complex.Zero)
                     : (index[t.Mechanical], Complex.Zero, (Complex)g);
@@ -77,7 +78,7 @@ public static class ModelBuilder
             foreach (var tone in group)
             {
                 var mech = scenario.ModeNamed(tone.Mechanical);
-                double g = Units.Physics.Angular(tone.CouplingHz);
+                double g = Physics.Angular(tone.CouplingHz);
                 double omegaM = mech.AngularFrequency;
                 double rate = g * g * kappa / (kappa * kappa / 4 + 4 * omegaM * omegaM);
                 int j = index[tone.Mechanical];

@@ -1,6 +1,6 @@
+using MathNet.Numerics.LinearAlgebra;
 using System.Collections.Immutable;
 using System.Numerics;
-using MathNet.Numerics.LinearAlgebra;
 
 namespace Decohere.Model;
 

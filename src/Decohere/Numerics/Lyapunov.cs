@@ -1,6 +1,7 @@
-using System.Globalization;
 using MathNet.Numerics.LinearAlgebra;
 using MathNet.Numerics.LinearAlgebra.Factorization;
+using System.Globalization;
+
 using Complex = System.Numerics.Complex;
 
 namespace Decohere.Numerics;

@@ -1,5 +1,6 @@
-using System.Collections.Immutable;
 using MathNet.Numerics.LinearAlgebra;
+using System.Collections.Immutable;
+using Decohere.Core;
 using Decohere.Model;
 using Decohere.Numerics;
 using Decohere.Scenarios;

@@ -1,4 +1,5 @@
 using System.Collections.Immutable;
+using Decohere.Core;
 using Decohere.Engine;
 using Decohere.Scenarios;
 using Decohere.Statistics;

@@ -1,7 +1,7 @@
 using System.Collections.Immutable;
 using System.Globalization;
 using System.Text.RegularExpressions;
-using Decohere.Units;
+using Decohere.Core;
 
 namespace Decohere.Scenarios;
 

@@ -1,5 +1,5 @@
 using System.Collections.Immutable;
-using Decohere.Units;
+using Decohere.Core;
 
 namespace Decohere.Scenarios;
 

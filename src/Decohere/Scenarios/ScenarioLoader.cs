@@ -2,9 +2,9 @@ using System.Collections.Immutable;
 using System.Reflection;
 using System.Security.Cryptography;
 using System.Text;
-using Decohere.Units;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
+using Decohere.Core;
 
 namespace Decohere.Scenarios;
 

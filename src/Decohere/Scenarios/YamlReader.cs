@@ -1,6 +1,6 @@
 using System.Globalization;
-using Decohere.Units;
 using YamlDotNet.RepresentationModel;
+using Decohere.Core;
 
 namespace Decohere.Scenarios;
 

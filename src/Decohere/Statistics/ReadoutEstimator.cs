@@ -1,6 +1,6 @@
+using MathNet.Numerics.Distributions;
 using Decohere.Engine;
 using Decohere.Sampling;
-using MathNet.Numerics.Distributions;
 
 namespace Decohere.Statistics;
 

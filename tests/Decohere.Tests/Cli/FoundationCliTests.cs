@@ -24,7 +24,7 @@ public class FoundationCliTests
         // rotating-wave model, V_min = [Γe^{−2r}(n_c+½) + γ(n_th+½)c]/(Γ + γc) (PHYSICS.md check value), with
         // n_th from Bose–Einstein at 15 mK and 4.1 MHz (CODATA 2018 constants).
         double k = 2 * Math.PI * 210e3, g = 2 * Math.PI * 0.15, gm = 2 * Math.PI * 25e3, gp = 2 * Math.PI * 18e3;
-        double nth = Decohere.Units.Physics.Occupancy(4.1e6, 0.015), nc = 0.04;
+        double nth = Decohere.Core.Physics.Occupancy(4.1e6, 0.015), nc = 0.04;
         double rate = 4 * (gm * gm - gp * gp) / k, c = 1 + (rate + g) / k;
         double expected = (rate * (gm - gp) / (gm + gp) * (nc + 0.5) + g * (nth + 0.5) * c) / (rate + g * c);
         Assert.Equal(expected, (double)squeeze["end"]!["drum"]!["var_min"]!, 9);

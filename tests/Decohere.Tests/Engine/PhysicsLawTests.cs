@@ -1,5 +1,6 @@
 using Decohere.Engine;
 using Decohere.Numerics;
+
 using static Decohere.Tests.Engine.TestScenarios;
 
 namespace Decohere.Tests.Engine;

@@ -1,7 +1,7 @@
+using MathNet.Numerics.LinearAlgebra;
 using System.Numerics;
 using Decohere.Model;
 using Decohere.Numerics;
-using MathNet.Numerics.LinearAlgebra;
 
 namespace Decohere.Tests.Model;
 

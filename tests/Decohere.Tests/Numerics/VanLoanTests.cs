@@ -1,5 +1,5 @@
-using Decohere.Numerics;
 using MathNet.Numerics.LinearAlgebra;
+using Decohere.Numerics;
 
 namespace Decohere.Tests.Numerics;
 

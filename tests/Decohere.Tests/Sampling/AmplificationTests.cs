@@ -1,3 +1,4 @@
+using Decohere.Core;
 using Decohere.Sampling;
 using Decohere.Scenarios;
 

@@ -1,5 +1,5 @@
-using Decohere.Sampling;
 using MathNet.Numerics.Distributions;
+using Decohere.Sampling;
 
 namespace Decohere.Tests.Sampling;
 

@@ -1,5 +1,7 @@
+using Decohere.Core;
 using Decohere.Engine;
-using Decohere.Output;
+using Decohere.IO;
+using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;
 
@@ -105,7 +107,7 @@ public class ShotSamplerTests
             {
                 var sampler = new ShotSampler(scenario, settings: new SamplerSettings(MaxDegreeOfParallelism: threads, BatchShots: 4096 * 3));
                 string path = Path.Combine(dir.FullName, $"shots-{threads}.parquet");
-                await using (var table = await ShotsTable.CreateAsync(path, sampler, RunMetadata.For(scenario)))
+                await using (var table = await ShotsTable.CreateAsync(path, sampler, Provenance.For(scenario)))
                 {
                     await sampler.RunAsync(table.WriteAsync);
                     await table.CommitAsync();

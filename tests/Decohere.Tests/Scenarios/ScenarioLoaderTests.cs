@@ -1,5 +1,5 @@
+using Decohere.Core;
 using Decohere.Scenarios;
-using Decohere.Units;
 
 namespace Decohere.Tests.Scenarios;
 

@@ -1,7 +1,7 @@
+using MathNet.Numerics.Distributions;
 using Decohere.Engine;
 using Decohere.Sampling;
 using Decohere.Statistics;
-using MathNet.Numerics.Distributions;
 
 namespace Decohere.Tests.Statistics;
 

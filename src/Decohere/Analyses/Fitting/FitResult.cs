@@ -1,0 +1,69 @@
+using System.Collections.Immutable;
+using Decohere.Analyses.Calibration;
+using Decohere.IO;
+using Decohere.Scenarios;
+using Decohere.Statistics;
+
+namespace Decohere.Analyses.Fitting;
+
+/// <summary>Settings of a scenario fit.</summary>
+public sealed record FitSettings
+{
+    /// <summary>Optimiser starts.</summary>
+    public int Starts { get; init; } = 4;
+
+    /// <summary>Confidence of every interval.</summary>
+    public double Confidence { get; init; } = 0.95;
+
+    /// <summary>Compute profile-likelihood intervals.</summary>
+    public bool Profiles { get; init; } = true;
+
+    /// <summary>Profile only these paths (null: all free parameters).</summary>
+    public IReadOnlyCollection<string>? ProfileOnly { get; init; }
+
+    /// <summary>Use both cores for starts and profiles.</summary>
+    public bool Parallel { get; init; } = true;
+
+    /// <summary>|correlation| above which two parameters are reported as not separately identified.</summary>
+    public double CorrelationLimit { get; init; } = 0.95;
+
+    /// <summary>Points of the fitted curve written for the plot.</summary>
+    public int CurvePoints { get; init; } = 161;
+}
+
+/// <summary>
+/// A fitted or derived quantity: value, standard error and interval (ci_low/ci_high at the fit's confidence).
+/// An end not reached by the profile is the domain's bound (0) or unbounded (+∞) and is flagged.
+/// </summary>
+public sealed record FittedQuantity(string Name, double Value, double StandardError, double Low, double High, bool LowReached, bool HighReached, string Method);
+
+/// <summary>A combination of two parameters that the data do determine when the two are not separately identified.</summary>
+public sealed record IdentifiedCombination(string Name, string Expression, string First, string Second, double Correlation, FittedQuantity FittedQuantity);
+
+/// <summary>Goodness of fit: the deviance at the optimum against χ² with (statistics − parameters) degrees of freedom.</summary>
+public sealed record GoodnessOfFit(double Deviance, int DegreesOfFreedom, double ReducedChiSquare, double PValue);
+
+/// <summary>Data and model at one delay: the model's prediction and its pointwise standard deviation from the parameter covariance.</summary>
+public sealed record DelayFit(DelayObservation Data, ReadoutPrediction Model, ReadoutPrediction ModelSd);
+
+/// <summary>The fitted curve on a fine delay grid, for plots.</summary>
+public sealed record FitCurve(ImmutableArray<double> DelaysS, ImmutableArray<ReadoutPrediction> Model, ImmutableArray<ReadoutPrediction> ModelSd);
+
+/// <summary>Everything a scenario fit produced.</summary>
+public sealed record FitResult(
+    Scenario Scenario,
+    Scenario Fitted,
+    FitData Data,
+    ImmutableArray<ParameterPath> Paths,
+    ImmutableArray<FittedQuantity> Parameters,
+    ImmutableArray<FittedQuantity> Derived,
+    ImmutableArray<IdentifiedCombination> Combinations,
+    double[,] Correlation,
+    GoodnessOfFit Goodness,
+    ImmutableArray<DelayFit> Delays,
+    FitCurve Curve,
+    ImmutableArray<string> Warnings,
+    string Likelihood,
+    double Confidence,
+    int Evaluations,
+    double ElapsedSeconds);

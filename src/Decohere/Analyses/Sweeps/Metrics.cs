@@ -1,0 +1,207 @@
+using System.Collections.Immutable;
+using System.Globalization;
+using Decohere.Analyses.Lifetime;
+using Decohere.Core;
+using Decohere.Engine;
+using Decohere.Model;
+using Decohere.Scenarios;
+using Decohere.Statistics;
+
+namespace Decohere.Analyses.Sweeps;
+
+/// <summary>
+/// One point of a sweep while its metrics are evaluated: the modified scenario, its seed, and the solved dynamics,
+/// computed once on first use and shared by every metric of the point. Not thread-safe (one point, one thread).
+/// </summary>
+public sealed class SweepPoint(long index, long seed, Scenario scenario)
+{
+    private Dynamics? _dynamics;
+    private readonly Stability?[] _stability = new Stability?[scenario.Stages.Length];
+    private readonly LifetimeCore?[] _lifetimes = new LifetimeCore?[scenario.Stages.Length];
+
+    /// <summary>Point index in the grid.</summary>
+    public long Index { get; } = index;
+
+    /// <summary>The point's own seed (for metrics that sample); also set as the scenario's seed.</summary>
+    public long Seed { get; } = seed;
+
+    /// <summary>The scenario at this point.</summary>
+    public Scenario Scenario { get; } = scenario with { Seed = seed };
+
+    /// <summary>The solved dynamics (all stages, every boundary state).</summary>
+    public Dynamics Dynamics => _dynamics ??= Dynamics.Solve(Scenario);
+
+    /// <summary>Stability of a stage, straight from its drift (so it is reported even when the dynamics cannot be solved).</summary>
+    public Stability Stability(int stage) =>
+        _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Engine.Stability.Of(ModelBuilder.Build(Scenario, Scenario.Stages[stage]).Drift);
+
+    /// <summary>The lifetimes after a stage (no sensitivities), computed once and shared by the lifetime metrics.</summary>
+    public LifetimeCore Lifetimes(int stage) =>
+        _lifetimes[stage] ??= LifetimeAnalysis.Analyze(Scenario,
+            new LifetimeSettings { AfterStage = Scenario.Stages[stage].Name, Sensitivities = false, CurvePoints = 2 });
+}
+
+/// <summary>A metric bound to a sweep: its canonical spec (<c>steady_squeezing_db:squeeze</c>), column name (unit in the name) and function.</summary>
+public sealed record Metric(string Spec, string Column, string Description, Func<SweepPoint, double> Evaluate);
+
+/// <summary>What the text after a metric's colon names.</summary>
+public enum MetricArgument { None, Stage, Mode, Delay }
+
+/// <summary>
+/// An entry of the metric registry. <paramref name="Bind"/> resolves the argument against the sweep's template scenario
+/// (null argument: the default) and returns the metric.
+/// </summary>
+public sealed record MetricDefinition(string Name, MetricArgument Argument, string Description, Func<Scenario, string?, Metric> Bind);
+
+/// <summary>
+/// The metric registry: the one place that maps a metric name to its column and its function of a sweep point.
+/// A new metric is one <see cref="MetricDefinition"/> in <see cref="All"/>. Stage metrics default to the last stage
+/// with tones; mode metrics to the readout mode, else the first mechanical mode.
+/// </summary>
+public static class Metrics
+{
+    /// <summary>Every metric, in the order listed in help.</summary>
+    public static ImmutableArray<MetricDefinition> All { get; } =
+    [
+        StageMoment("steady_var_min", "", "steady-state minimum quadrature variance of the stage (quanta; 0.5 = zero-point)",
+            (p, stage, mode) => p.Dynamics.SteadyState(stage).Moments(mode).VarMin),
+        StageMoment("steady_squeezing_db", "", "steady-state squeezing of the stage, 10·log10(0.5/var_min) (dB, > 0 below zero-point)",
+            (p, stage, mode) => p.Dynamics.SteadyState(stage).Moments(mode).SqueezingDb),
+        StageMoment("end_var_min", "", "minimum quadrature variance at the end of the stage (quanta)",
+            (p, stage, mode) => p.Dynamics.Boundaries[stage + 1].Moments(mode).VarMin),
+        StageMoment("end_squeezing_db", "", "squeezing at the end of the stage (dB)",
+            (p, stage, mode) => p.Dynamics.Boundaries[stage + 1].Moments(mode).SqueezingDb),
+        StageMoment("end_occupancy", "", "occupancy at the end of the stage (quanta)",
+            (p, stage, mode) => p.Dynamics.Boundaries[stage + 1].Moments(mode).Occupancy),
+        new("max_re_lambda", MetricArgument.Stage, "stability: largest real part of the stage's drift eigenvalues (s⁻¹; < 0 stable, else the growth rate)",
+            (s, arg) => StageBound(s, arg, "max_re_lambda", "_per_s", "stability of the stage", (p, stage, _) => p.Stability(stage).MaxRealPart)),
+        new("thermal_decoherence_rate", MetricArgument.Mode, "thermal decoherence rate γ·n_th of the mode in its own bath (s⁻¹)",
+            (s, arg) =>
+            {
+                string mode = ModeArgument(s, arg, "thermal_decoherence_rate");
+                return new Metric($"thermal_decoherence_rate:{mode}", $"thermal_decoherence_rate_per_s.{mode}", "γ·n_th",
+                    p => p.Scenario.ModeNamed(mode) is var m ? m.DecayRate * m.Bath.Occupancy : 0);
+            }),
+        new("resolution_probability", MetricArgument.Delay,
+            "probability that the readout's one-sided 95% upper bound on var_min is below zero-point, at the readout's last delay or :DELAY (exact χ², no sampling)",
+            BindResolution),
+        new("physical_lifetime", MetricArgument.Stage,
+            "time the squeezed quadrature stays below zero-point after the end of the last driven stage or :STAGE (s; null if it outlives the search)",
+            (s, arg) => BindLifetime(s, arg, "physical_lifetime", core => (core.PhysicalLifetimeS, core.PhysicalStatus))),
+        new("observable_lifetime", MetricArgument.Stage,
+            "longest delay after the last driven stage or :STAGE at which the readout resolves the squeezing, median-measurement criterion (s; null if never)",
+            (s, arg) => BindLifetime(s, arg, "observable_lifetime", core => (core.ObservableLifetimeS, core.ObservableStatus))),
+    ];
+
+    /// <summary>The metrics a sweep computes when none are named: steady squeezing and stability of the last stage with tones.</summary>
+    public static string Default => "steady_squeezing_db,max_re_lambda";
+
+    /// <summary>Names with their argument, for help and messages (<c>steady_squeezing_db[:STAGE]</c>).</summary>
+    public static IEnumerable<string> Usage => All.Select(d => d.Argument == MetricArgument.None ? d.Name : $"{d.Name}[:{d.Argument.ToString().ToUpperInvariant()}]");
+
+    /// <summary>Parses a comma-separated list of metrics (null or empty: <see cref="Default"/>) against the template.</summary>
+    /// <exception cref="InputException">An unknown or unavailable metric or a bad argument; the message lists the allowed ones.</exception>
+    public static ImmutableArray<Metric> ParseList(string? list, Scenario template)
+    {
+        string text = string.IsNullOrWhiteSpace(list) ? Default : list;
+        var metrics = text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries).Select(m => Parse(m, template)).ToImmutableArray();
+        var repeated = metrics.GroupBy(m => m.Column).FirstOrDefault(g => g.Count() > 1);
+        if (repeated is not null) throw new InputException($"--metrics: {repeated.First().Spec} is listed more than once");
+        return metrics;
+    }
+
+    /// <summary>Parses one metric, <c>NAME</c> or <c>NAME:ARGUMENT</c>.</summary>
+    public static Metric Parse(string text, Scenario template)
+    {
+        int colon = text.IndexOf(':');
+        string name = (colon < 0 ? text : text[..colon]).Trim();
+        string? argument = colon < 0 ? null : text[(colon + 1)..].Trim();
+        var definition = All.FirstOrDefault(d => d.Name == name)
+            ?? throw new InputException($"--metrics: unknown metric '{name}'; metrics: {string.Join(", ", Usage)}");
+        if (argument is not null && definition.Argument == MetricArgument.None)
+            throw new InputException($"--metrics: '{name}' takes no argument (got ':{argument}')");
+        if (argument is { Length: 0 })
+            throw new InputException($"--metrics: '{name}:' has an empty {definition.Argument.ToString().ToLowerInvariant()}");
+        return definition.Bind(template, argument);
+    }
+
+    private static MetricDefinition StageMoment(string name, string unit, string description, Func<SweepPoint, int, string, double> f) =>
+        new(name, MetricArgument.Stage, description, (s, arg) => StageBound(s, arg, name, unit, description, f));
+
+    private static Metric StageBound(Scenario s, string? arg, string name, string unit, string description, Func<SweepPoint, int, string, double> f)
+    {
+        int stage = StageArgument(s, arg, name);
+        string stageName = s.Stages[stage].Name;
+        string mode = DefaultMode(s, name);
+        return new Metric($"{name}:{stageName}", $"{name}{unit}.{stageName}", $"{description}; mode {mode}", p => f(p, stage, mode));
+    }
+
+    private static int StageArgument(Scenario s, string? arg, string metric)
+    {
+        if (arg is null)
+        {
+            for (int i = s.Stages.Length - 1; i >= 0; i--)
+                if (s.Stages[i].Tones.Length > 0) return i;
+            return s.Stages.Length - 1;
+        }
+        for (int i = 0; i < s.Stages.Length; i++)
+            if (s.Stages[i].Name == arg) return i;
+        throw new InputException($"--metrics: {metric}:{arg}: no stage '{arg}'; stages: {string.Join(", ", s.Stages.Select(st => st.Name))}");
+    }
+
+    private static string DefaultMode(Scenario s, string metric)
+    {
+        if (s.Readout is not null) return s.Readout.Mode;
+        return s.Modes.FirstOrDefault(m => m.Kind == ModeKind.Mechanical)?.Name
+            ?? throw new InputException($"--metrics: {metric} needs a mechanical mode or a readout; the scenario has neither");
+    }
+
+    private static string ModeArgument(Scenario s, string? arg, string metric)
+    {
+        if (arg is null) return DefaultMode(s, metric);
+        if (s.Modes.Any(m => m.Name == arg)) return arg;
+        throw new InputException($"--metrics: {metric}:{arg}: no mode '{arg}'; modes: {string.Join(", ", s.Modes.Select(m => m.Name))}");
+    }
+
+    // The planning module's lifetime analysis (no sensitivities). A lifetime that does not exist (never resolved,
+    // outlives the search) leaves the value null with its status as the point's error text.
+    private static Metric BindLifetime(Scenario s, string? arg, string name, Func<LifetimeCore, (double? Value, LifetimeStatus Status)> pick)
+    {
+        int stage = StageArgument(s, arg, name);
+        string stageName = s.Stages[stage].Name;
+        return new Metric($"{name}:{stageName}", $"{name}_s.{stageName}", $"{name} after stage {stageName}",
+            p => pick(p.Lifetimes(stage)) is var (value, status) && value is { } v
+                ? v
+                : throw new InvalidOperationException($"{name}: {status}"));
+    }
+
+    private static Metric BindResolution(Scenario s, string? arg)
+    {
+        const string name = "resolution_probability";
+        var readout = s.Readout ?? throw new InputException($"--metrics: {name} needs a readout section in the scenario");
+        if (readout.Method != ReadoutMethod.Phenomenological)
+            throw new InputException($"--metrics: {name} supports readout method phenomenological only (this scenario's readout amplifies; sample it instead)");
+        double delay;
+        if (arg is null)
+        {
+            if (readout.DelaysS.Length == 0) throw new InputException($"--metrics: {name}: the readout has no delays; give one as {name}:DELAY");
+            delay = readout.DelaysS[^1];
+        }
+        else if (!Quantity.TryParse(arg, Dimension.Time, out delay, out string? error) || delay < 0)
+            throw new InputException($"--metrics: {name}:{arg}: {error ?? "the delay must be >= 0"}");
+        string stage = readout.Stage, mode = readout.Mode;
+        string delayText = delay.ToString("R", CultureInfo.InvariantCulture);
+        return new Metric($"{name}:{delayText} s", $"{name}.delay_{delayText}_s",
+            $"probability that readout of {mode} at {Quantity.Format(delay, Dimension.Time)} after the start of '{stage}' resolves squeezing",
+            p =>
+            {
+                var sc = p.Scenario;
+                double t = sc.StageStarts[sc.StageIndex(stage)] + delay;
+                if (t > sc.TotalDurationS * (1 + 1e-12))
+                    throw new InputException($"{name}: the readout at {Quantity.Format(delay, Dimension.Time)} after the start of '{stage}' is past the end of the last stage");
+                double varMin = p.Dynamics.StateAt(t).Moments(mode).VarMin;
+                var r = sc.Readout!;
+                return VarianceStatistics.ResolutionProbability(varMin, r.AddedNoise, r.Shots);
+            });
+    }
+}

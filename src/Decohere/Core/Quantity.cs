@@ -1,0 +1,124 @@
+using System.Globalization;
+using System.Text.RegularExpressions;
+
+namespace Decohere.Core;
+
+/// <summary>Physical dimension of a scenario quantity; decides which unit suffixes are accepted.</summary>
+public enum Dimension
+{
+    /// <summary>Ordinary frequency in Hz (not angular).</summary>
+    Frequency,
+    /// <summary>Time in seconds.</summary>
+    Time,
+    /// <summary>Temperature in kelvin.</summary>
+    Temperature,
+    /// <summary>Decibels (a power ratio).</summary>
+    Decibel,
+    /// <summary>Plane angle in radians.</summary>
+    Angle,
+    /// <summary>A pure number (quanta, ratios, counts).</summary>
+    Dimensionless,
+}
+
+/// <summary>
+/// Parses "number unit" strings ("4.1 MHz", "15 mK", "10 us") or bare numbers into SI values.
+/// A bare number is taken in the SI unit of its dimension (Hz, s, K, dB, rad).
+/// </summary>
+public static partial class Quantity
+{
+    private static readonly Dictionary<Dimension, (string Unit, double Factor)[]> Units = new()
+    {
+        [Dimension.Frequency] = [("Hz", 1), ("kHz", 1e3), ("MHz", 1e6), ("GHz", 1e9)],
+        [Dimension.Time] = [("s", 1), ("ms", 1e-3), ("us", 1e-6), ("µs", 1e-6), ("μs", 1e-6), ("ns", 1e-9)],
+        [Dimension.Temperature] = [("K", 1), ("mK", 1e-3), ("uK", 1e-6), ("µK", 1e-6), ("μK", 1e-6)],
+        [Dimension.Decibel] = [("dB", 1)],
+        [Dimension.Angle] = [("rad", 1), ("deg", Math.PI / 180)],
+        [Dimension.Dimensionless] = [],
+    };
+
+    /// <summary>The unit suffixes accepted for a dimension, for error messages.</summary>
+    public static IReadOnlyList<string> UnitsOf(Dimension dimension) =>
+        Units[dimension].Select(u => u.Unit).Where(u => !u.Contains('µ') && !u.Contains('μ')).ToArray();
+
+    /// <summary>SI unit name of a dimension ("Hz", "s", ...), empty for dimensionless.</summary>
+    public static string SiUnit(Dimension dimension) => dimension switch
+    {
+        Dimension.Frequency => "Hz",
+        Dimension.Time => "s",
+        Dimension.Temperature => "K",
+        Dimension.Decibel => "dB",
+        Dimension.Angle => "rad",
+        _ => "",
+    };
+
+    [GeneratedRegex(@"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([^\s\d.+-][^\s]*)?\s*$")]
+    private static partial Regex QuantityPattern();
+
+    /// <summary>
+    /// Parses <paramref name="text"/> as a quantity of <paramref name="dimension"/>, returning the SI value,
+    /// or an error message that names the accepted units.
+    /// </summary>
+    public static bool TryParse(string text, Dimension dimension, out double value, out string? error)
+    {
+        value = double.NaN;
+        error = null;
+        var match = QuantityPattern().Match(text);
+        if (!match.Success)
+        {
+            error = text.Trim().ToLowerInvariant() is "nan" or "inf" or "+inf" or "-inf" or ".nan" or ".inf" or "-.inf" or "infinity"
+                ? $"'{text}' is not a finite number"
+                : $"'{text}' is not a number{Expected(dimension)}";
+            return false;
+        }
+        double number = double.Parse(match.Groups[1].Value, NumberStyles.Float, CultureInfo.InvariantCulture);
+        if (!double.IsFinite(number))
+        {
+            error = $"'{text}' is not a finite number";
+            return false;
+        }
+        string unit = match.Groups[2].Success ? match.Groups[2].Value : "";
+        if (unit.Length == 0)
+        {
+            value = number;
+            return true;
+        }
+        foreach (var (name, factor) in Units[dimension])
+        {
+            if (name == unit)
+            {
+                value = number * factor;
+                return true;
+            }
+        }
+        var owner = Units.FirstOrDefault(kv => kv.Value.Any(u => u.Unit == unit)).Key;
+        bool known = Units.Any(kv => kv.Value.Any(u => u.Unit == unit));
+        error = known
+            ? $"'{text}' is a {owner.ToString().ToLowerInvariant()}, expected a {dimension.ToString().ToLowerInvariant()}{Expected(dimension)}"
+            : $"unknown unit '{unit}'{Expected(dimension)}";
+        return false;
+    }
+
+    private static string Expected(Dimension dimension) => dimension == Dimension.Dimensionless
+        ? " (a plain number)"
+        : $" (units: {string.Join(", ", UnitsOf(dimension))}, or a bare number in {SiUnit(dimension)})";
+
+    /// <summary>Formats an SI value with an engineering prefix for terminal output ("4.1 MHz").</summary>
+    public static string Format(double value, Dimension dimension, int digits = 4)
+    {
+        if (!double.IsFinite(value)) return value.ToString(CultureInfo.InvariantCulture);
+        (string, double)[] scales = dimension switch
+        {
+            Dimension.Frequency => [("GHz", 1e9), ("MHz", 1e6), ("kHz", 1e3), ("Hz", 1), ("mHz", 1e-3)],
+            Dimension.Time => [("s", 1), ("ms", 1e-3), ("us", 1e-6), ("ns", 1e-9)],
+            Dimension.Temperature => [("K", 1), ("mK", 1e-3), ("uK", 1e-6), ("nK", 1e-9)],
+            _ => [(SiUnit(dimension), 1)],
+        };
+        double magnitude = Math.Abs(value);
+        foreach (var (unit, factor) in scales)
+        {
+            if (magnitude >= factor || factor == scales[^1].Item2)
+                return $"{(value / factor).ToString("G" + digits, CultureInfo.InvariantCulture)} {unit}".TrimEnd();
+        }
+        return value.ToString("G" + digits, CultureInfo.InvariantCulture);
+    }
+}

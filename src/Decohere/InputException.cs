@@ -1,4 +1,0 @@
-namespace Decohere;
-
-/// <summary>Bad input that is not a scenario file (a data file, an option value, a parameter path); the message names the field and the allowed values.</summary>
-public sealed class InputException(string message) : Exception(message);

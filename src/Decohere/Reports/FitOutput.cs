@@ -1,0 +1,293 @@
+using ScottPlot;
+using System.Globalization;
+using System.Text.Json.Nodes;
+using Decohere.Analyses.Calibration;
+using Decohere.Analyses.Fitting;
+using Decohere.Core;
+using Decohere.IO;
+using Decohere.Statistics;
+
+namespace Decohere.Reports;
+
+/// <summary>Writes a fit's fit.json, fit.parquet (per delay: data, model, residuals, intervals) and fit.png; and the noise calibration's JSON.</summary>
+public static class FitOutput
+{
+    /// <summary>The columns of fit.parquet, in file order. Data columns are null where the data shape has no such value.</summary>
+    public static readonly ColumnSpec[] Columns =
+    [
+        ColumnSpec.Double("delay_s"), ColumnSpec.Long("shots"),
+        ColumnSpec.NullableDouble("var_i"), ColumnSpec.NullableDouble("var_q"), ColumnSpec.NullableDouble("cov_iq"),
+        ColumnSpec.NullableDouble("var_i_low"), ColumnSpec.NullableDouble("var_i_high"),
+        ColumnSpec.NullableDouble("var_q_low"), ColumnSpec.NullableDouble("var_q_high"),
+        ColumnSpec.NullableDouble("occupancy"), ColumnSpec.NullableDouble("occupancy_err"),
+        ColumnSpec.Double("var_i_model"), ColumnSpec.Double("var_q_model"), ColumnSpec.Double("cov_iq_model"),
+        ColumnSpec.Double("var_i_model_low"), ColumnSpec.Double("var_i_model_high"),
+        ColumnSpec.Double("var_q_model_low"), ColumnSpec.Double("var_q_model_high"),
+        ColumnSpec.Double("occupancy_model"), ColumnSpec.Double("occupancy_model_low"), ColumnSpec.Double("occupancy_model_high"),
+        ColumnSpec.NullableDouble("residual_i"), ColumnSpec.NullableDouble("residual_q"), ColumnSpec.NullableDouble("residual_occupancy"),
+    ];
+
+    /// <summary>Writes fit.json, fit.parquet and fit.png into <paramref name="directory"/>; returns the paths.</summary>
+    public static async Task<IReadOnlyList<string>> WriteAsync(FitResult fit, string directory, CancellationToken cancel = default)
+    {
+        Directory.CreateDirectory(directory);
+        var metadata = Provenance.For(fit.Scenario);
+        string json = Path.Combine(directory, "fit.json"), table = Path.Combine(directory, "fit.parquet"), png = Path.Combine(directory, "fit.png");
+        await WriteTableAsync(fit, table, metadata, cancel);
+        SummaryJson.Write(Json(fit, metadata), json);
+        cancel.ThrowIfCancellationRequested();
+        SavePlot(fit, png);
+        return [json, table, png];
+    }
+
+    private static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
+    {
+        var o = new JsonObject
+        {
+            ["value"] = SummaryJson.Number(e.Value),
+            ["stderr"] = SummaryJson.Number(e.StandardError),
+            ["ci_low"] = SummaryJson.Number(e.Low),
+            ["ci_high"] = SummaryJson.Number(e.High),
+            ["ci_method"] = e.Method,
+        };
+        if (unit is not null) o["unit"] = unit;
+        // An end the profile never reached is the domain's bound (0) or unbounded (null); say which.
+        if (!e.LowReached) o["ci_low_is_bound"] = true;
+        if (!e.HighReached) o["ci_high_unbounded"] = true;
+        return o;
+    }
+
+    private static readonly Dictionary<string, string> DerivedUnits = new()
+    {
+        ["bath_occupancy"] = "quanta", ["bath_temperature_k"] = "K", ["thermal_decoherence_rate_per_s"] = "s^-1",
+        ["quality_factor"] = "", ["linewidth_hz"] = "Hz", ["energy_decay_time_s"] = "s",
+    };
+
+    /// <summary>The fit.json document.</summary>
+    public static JsonObject Json(FitResult fit, Provenance metadata)
+    {
+        var root = SummaryJson.ProvenanceRoot(metadata);
+        root["data"] = new JsonObject
+        {
+            ["file"] = fit.Data.Source,
+            ["shape"] = fit.Data.Shape.ToString().ToLowerInvariant(),
+            ["delays"] = fit.Data.Delays.Length,
+            ["shots"] = fit.Data.TotalShots,
+        };
+        root["likelihood"] = fit.Likelihood;
+        root["confidence"] = fit.Confidence;
+        root["parameters"] = new JsonObject(fit.Parameters.Select((e, k) =>
+            KeyValuePair.Create<string, JsonNode?>(e.Name, EstimateJson(e, Quantity.SiUnit(fit.Paths[k].Dimension) is { Length: > 0 } u ? u : "quanta"))));
+        root["derived"] = new JsonObject(fit.Derived.Select(e =>
+            KeyValuePair.Create<string, JsonNode?>(e.Name, EstimateJson(e, DerivedUnits.GetValueOrDefault(e.Name)))));
+        root["identified_combinations"] = new JsonArray(fit.Combinations.Select(c =>
+        {
+            var o = EstimateJson(c.FittedQuantity);
+            o["name"] = c.Name;
+            o["expression"] = c.Expression;
+            o["parameters"] = new JsonArray(c.First, c.Second);
+            o["correlation"] = SummaryJson.Number(c.Correlation);
+            return (JsonNode)o;
+        }).ToArray());
+        int p = fit.Parameters.Length;
+        root["correlation"] = new JsonObject
+        {
+            ["parameters"] = new JsonArray([.. fit.Parameters.Select(e => (JsonNode)JsonValue.Create(e.Name))]),
+            ["matrix"] = new JsonArray([.. Enumerable.Range(0, p).Select(i => (JsonNode)new JsonArray([.. Enumerable.Range(0, p).Select(j => SummaryJson.Number(fit.Correlation[i, j]))]))]),
+        };
+        root["goodness_of_fit"] = new JsonObject
+        {
+            ["deviance"] = SummaryJson.Number(fit.Goodness.Deviance),
+            ["degrees_of_freedom"] = fit.Goodness.DegreesOfFreedom,
+            ["reduced_chi_square"] = SummaryJson.Number(fit.Goodness.ReducedChiSquare),
+            ["p_value"] = SummaryJson.Number(fit.Goodness.PValue),
+        };
+        root["evaluations"] = fit.Evaluations;
+        root["elapsed_s"] = Math.Round(fit.ElapsedSeconds, 3);
+        root["warnings"] = new JsonArray([.. fit.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        return root;
+    }
+
+    private static async Task WriteTableAsync(FitResult fit, string path, Provenance metadata, CancellationToken cancel)
+    {
+        int n = fit.Delays.Length;
+        double z = MathNet.Numerics.Distributions.Normal.InvCDF(0, 1, 0.5 + fit.Confidence / 2);
+        var cols = Columns.Select(c => c.Type == typeof(double?) ? (Array)new double?[n] : c.Type == typeof(long) ? new long[n] : new double[n]).ToArray();
+        bool variances = fit.Data.Shape != DataShape.Occupancies;
+        for (int k = 0; k < n; k++)
+        {
+            var d = fit.Delays[k];
+            var o = d.Data;
+            int c = 0;
+            ((double[])cols[c++])[k] = o.DelayS;
+            ((long[])cols[c++])[k] = o.Shots;
+            void Opt(double? v) => ((double?[])cols[c++])[k] = v is { } x && double.IsFinite(x) ? x : null;
+            void Val(double v) => ((double[])cols[c++])[k] = v;
+            if (variances)
+            {
+                var (il, ih) = VarianceStatistics.Interval(o.VarI, o.Shots, fit.Confidence);
+                var (ql, qh) = VarianceStatistics.Interval(o.VarQ, o.Shots, fit.Confidence);
+                Opt(o.VarI); Opt(o.VarQ); Opt(o.CovIQ); Opt(il); Opt(ih); Opt(ql); Opt(qh);
+                double addedNoise = fit.Fitted.Readout!.AddedNoise;
+                double cov = o.CovIQ ?? 0;
+                // Occupancy implied by the data: mean quadrature variance minus the fitted added noise and zero-point ½ (plus the mean's energy);
+                // its error from the χ² variances of s² (2σ⁴/ν) and their covariance (2c²/ν).
+                Opt(0.5 * (o.VarI + o.VarQ) - 0.5 - addedNoise + 0.5 * (o.MeanI * o.MeanI + o.MeanQ * o.MeanQ));
+                Opt(Math.Sqrt((o.VarI * o.VarI + o.VarQ * o.VarQ + 2 * cov * cov) / (2.0 * (o.Shots - 1))));
+            }
+            else
+            {
+                for (int i = 0; i < 7; i++) Opt(null);
+                Opt(o.Occupancy); Opt(o.OccupancyError);
+            }
+            var m = d.Model;
+            var s = d.ModelSd;
+            Val(m.VarI); Val(m.VarQ); Val(m.CovIQ);
+            Val(m.VarI - z * s.VarI); Val(m.VarI + z * s.VarI);
+            Val(m.VarQ - z * s.VarQ); Val(m.VarQ + z * s.VarQ);
+            Val(m.Occupancy); Val(m.Occupancy - z * s.Occupancy); Val(m.Occupancy + z * s.Occupancy);
+            if (variances)
+            {
+                // Standardised residual of a sample variance: (s² − σ²)/(σ²·√(2/ν)).
+                Opt((o.VarI - m.VarI) / (m.VarI * Math.Sqrt(2.0 / (o.Shots - 1))));
+                Opt((o.VarQ - m.VarQ) / (m.VarQ * Math.Sqrt(2.0 / (o.Shots - 1))));
+                Opt(null);
+            }
+            else
+            {
+                Opt(null); Opt(null);
+                Opt((o.Occupancy - m.Occupancy) / o.OccupancyError);
+            }
+        }
+        var meta = metadata.ToKeyValues().ToDictionary();
+        meta["decohere.fit.likelihood"] = fit.Likelihood;
+        meta["decohere.fit.free"] = string.Join(",", fit.Paths.Select(x => x.Text));
+        await ParquetTable.WriteAsync(path, Columns, cols, meta, cancel: cancel);
+    }
+
+    /// <summary>Renders fit.png: data with their 95% error bars, the fitted curve with its band, and a residual panel below.</summary>
+    public static void SavePlot(FitResult fit, string path)
+    {
+        double z = MathNet.Numerics.Distributions.Normal.InvCDF(0, 1, 0.5 + fit.Confidence / 2);
+        double maxDelay = fit.Curve.DelaysS.Max();
+        var (scale, unit) = maxDelay >= 1 ? (1.0, "s") : maxDelay >= 1e-3 ? (1e3, "ms") : (1e6, "µs");
+        var top = new Plot();
+        var bottom = new Plot();
+        var palette = new ScottPlot.Palettes.Category10();
+        double[] cx = [.. fit.Curve.DelaysS.Select(t => t * scale)];
+        double[] dx = [.. fit.Delays.Select(d => d.Data.DelayS * scale)];
+        bool variances = fit.Data.Shape != DataShape.Occupancies;
+        var series = variances
+            ? new (string Label, Func<ReadoutPrediction, double> Get, Func<DelayObservation, double> Data)[]
+                { ("var_i", r => r.VarI, o => o.VarI), ("var_q", r => r.VarQ, o => o.VarQ) }
+            : [("occupancy", r => r.Occupancy, o => o.Occupancy)];
+        for (int s = 0; s < series.Length; s++)
+        {
+            var (label, get, data) = series[s];
+            var color = palette.GetColor(s);
+            double[] model = [.. fit.Curve.Model.Select(get)];
+            double[] sd = [.. fit.Curve.ModelSd.Select(get)];
+            if (sd.All(double.IsFinite))
+            {
+                var band = top.Add.FillY(cx, [.. model.Select((m, k) => m + z * sd[k])], [.. model.Select((m, k) => m - z * sd[k])]);
+                band.FillColor = color.WithAlpha(0.2);
+                band.LineWidth = 0;
+                band.LegendText = $"{label} model {fit.Confidence:P0} band";
+            }
+            var line = top.Add.ScatterLine(cx, model);
+            line.Color = color;
+            line.LineWidth = 2;
+            line.LegendText = $"{label} fit";
+
+            double[] y = [.. fit.Delays.Select(d => data(d.Data))];
+            double[] up, down;
+            if (variances)
+            {
+                var iv = fit.Delays.Select(d => VarianceStatistics.Interval(data(d.Data), d.Data.Shots, fit.Confidence)).ToArray();
+                up = [.. iv.Select((v, k) => v.High - y[k])];
+                down = [.. iv.Select((v, k) => y[k] - v.Low)];
+            }
+            else
+            {
+                up = down = [.. fit.Delays.Select(d => z * d.Data.OccupancyError)];
+            }
+            var bars = top.Add.ErrorBar(dx, y, up);
+            bars.YErrorPositive = up;
+            bars.YErrorNegative = down;
+            bars.Color = color;
+            var marks = top.Add.ScatterPoints(dx, y);
+            marks.Color = color;
+            marks.MarkerSize = 7;
+            marks.LegendText = $"{label} data ({fit.Confidence:P0} interval)";
+
+            double[] residual = [.. fit.Delays.Select(d =>
+            {
+                double m = get(d.Model);
+                return variances ? (data(d.Data) - m) / (m * Math.Sqrt(2.0 / (d.Data.Shots - 1))) : (d.Data.Occupancy - m) / d.Data.OccupancyError;
+            })];
+            var r = bottom.Add.ScatterPoints(dx, residual);
+            r.Color = color;
+            r.MarkerSize = 7;
+        }
+        var zero = bottom.Add.HorizontalLine(0);
+        zero.Color = Colors.Black;
+        foreach (double level in new[] { -2.0, 2.0 })
+        {
+            var guide = bottom.Add.HorizontalLine(level);
+            guide.Color = Colors.Gray;
+            guide.LinePattern = LinePattern.Dotted;
+        }
+        if (variances)
+        {
+            var zp = top.Add.HorizontalLine(0.5 + fit.Fitted.Readout!.AddedNoise);
+            zp.Color = Colors.Black;
+            zp.LinePattern = LinePattern.Dotted;
+            zp.LegendText = "zero-point + added noise";
+        }
+        string headline = string.Join(", ", fit.Derived.Where(d => d.Name is "bath_temperature_k" or "thermal_decoherence_rate_per_s")
+            .Select(d => d.Name == "bath_temperature_k"
+                ? $"T = {Quantity.Format(d.Value, Dimension.Temperature, 3)} [{Quantity.Format(d.Low, Dimension.Temperature, 3)}, {Quantity.Format(d.High, Dimension.Temperature, 3)}]"
+                : $"γ·n_th = {d.Value.ToString("G3", CultureInfo.InvariantCulture)} s⁻¹"));
+        top.Title($"{fit.Scenario.Name}: fit of {string.Join(", ", fit.Paths.Select(p => p.Text))}" + (headline.Length > 0 ? $"\n{headline}" : ""));
+        top.YLabel(variances ? "quadrature variance (quanta)" : "occupancy (quanta)");
+        top.ShowLegend(Alignment.MiddleLeft);
+        bottom.YLabel(variances ? "residual (σ)" : "residual (σ)");
+        bottom.XLabel($"delay from start of stage '{fit.Scenario.Readout!.Stage}' ({unit})");
+        double pad = 0.03 * maxDelay * scale;
+        top.Axes.SetLimitsX(-pad, maxDelay * scale + pad);
+        bottom.Axes.SetLimitsX(-pad, maxDelay * scale + pad);
+        bottom.Axes.SetLimitsY(-4, 4);
+
+        var multi = new Multiplot();
+        multi.Reset(top);
+        multi.AddPlot(bottom);
+        var layout = new ScottPlot.MultiplotLayouts.DraggableRows();
+        layout.SetHeights([620f, 280f]);
+        multi.Layout = layout;
+        AtomicFile.Write(path, tmp => multi.SavePng(tmp, 1200, 900));
+    }
+
+    /// <summary>The noise-calibration JSON (fit-noise.json).</summary>
+    public static JsonObject NoiseJson(NoiseCalibrationResult r) => new()
+    {
+        ["data"] = new JsonObject { ["file"] = r.Source, ["points"] = r.Points.Length, ["shots"] = r.Points.Sum(p => p.Shots) },
+        ["model"] = "var = gain·(occupancy + 1/2) + added_noise for var_i and var_q; chi-square likelihood with shots − 1 degrees of freedom per variance",
+        ["confidence"] = r.Confidence,
+        ["parameters"] = new JsonObject
+        {
+            ["gain"] = EstimateJson(r.Gain, "measured variance units per quantum"),
+            ["added_noise"] = EstimateJson(r.AddedNoise, "measured variance units"),
+        },
+        ["derived"] = new JsonObject { ["added_noise_input_referred"] = EstimateJson(r.AddedNoiseInputReferred, "quanta") },
+        ["correlation"] = SummaryJson.Number(r.Correlation),
+        ["goodness_of_fit"] = new JsonObject
+        {
+            ["deviance"] = SummaryJson.Number(r.Goodness.Deviance),
+            ["degrees_of_freedom"] = r.Goodness.DegreesOfFreedom,
+            ["reduced_chi_square"] = SummaryJson.Number(r.Goodness.ReducedChiSquare),
+            ["p_value"] = SummaryJson.Number(r.Goodness.PValue),
+        },
+        ["version"] = Provenance.Version,
+        ["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]),
+    };
+}

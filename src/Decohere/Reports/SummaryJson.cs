@@ -1,0 +1,102 @@
+using System.Text.Encodings.Web;
+using System.Text.Json;
+using System.Text.Json.Nodes;
+using Decohere.Analyses.Check;
+using Decohere.Core;
+using Decohere.Engine;
+using Decohere.IO;
+using Decohere.Scenarios;
+
+namespace Decohere.Reports;
+
+/// <summary>Writes summary.json: per stage and mode the end state and steady state, derived quantities, warnings and provenance.</summary>
+public static class SummaryJson
+{
+    /// <summary>Options shared by every JSON file the tool writes.</summary>
+    public static JsonSerializerOptions Options { get; } = new() { WriteIndented = true, Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping };
+
+    /// <summary>A finite number, or null (JSON has no NaN or ∞).</summary>
+    public static JsonNode? Number(double value) => double.IsFinite(value) ? JsonValue.Create(value) : null;
+
+    /// <summary>The moments of one mode as a JSON object with the table's column names.</summary>
+    public static JsonObject Moments(ModeMoments m) => new()
+    {
+        ["var_x"] = Number(m.VarX), ["var_p"] = Number(m.VarP), ["cov_xp"] = Number(m.CovXP),
+        ["mean_x"] = Number(m.MeanX), ["mean_p"] = Number(m.MeanP),
+        ["var_min"] = Number(m.VarMin), ["var_max"] = Number(m.VarMax), ["angle_rad"] = Number(m.AngleRad),
+        ["occupancy"] = Number(m.Occupancy), ["squeezing_db"] = Number(m.SqueezingDb),
+    };
+
+    /// <summary>Provenance block shared by every summary file.</summary>
+    public static JsonObject ProvenanceRoot(Provenance metadata) => new()
+    {
+        ["scenario"] = metadata.ScenarioName,
+        ["scenario_sha256"] = metadata.ScenarioHash,
+        ["version"] = metadata.ToolVersion,
+        ["seed"] = metadata.Seed,
+        ["conventions"] = Provenance.Conventions,
+    };
+
+    /// <summary>Builds the summary of a run.</summary>
+    public static JsonObject Build(Dynamics dynamics, ScenarioReport report, Provenance metadata)
+    {
+        var s = dynamics.Scenario;
+        var root = ProvenanceRoot(metadata);
+        root["model"] = s.Model == ModelKind.Full ? "full" : "effective";
+        root["modes"] = new JsonObject(report.Mechanical.Select(m => KeyValuePair.Create<string, JsonNode?>(m.Mode.Name, new JsonObject
+        {
+            ["frequency_hz"] = m.Mode.FrequencyHz,
+            ["linewidth_hz"] = m.Mode.LinewidthHz,
+            ["quality_factor"] = m.Mode.QualityFactor,
+            ["bath_occupancy"] = Number(m.Occupancy),
+            ["bath_temperature_k"] = Number(m.TemperatureK),
+            ["thermal_decoherence_rate_per_s"] = Number(m.ThermalDecoherenceRate),
+            ["thermal_decoherence_time_s"] = Number(m.ThermalDecoherenceTime),
+        })));
+        root["tones"] = new JsonArray(report.Tones.Select(t => (JsonNode)new JsonObject
+        {
+            ["stage"] = t.Stage, ["cavity"] = t.Tone.Cavity, ["mechanical"] = t.Tone.Mechanical,
+            ["sideband"] = t.Tone.Sideband.ToString().ToLowerInvariant(),
+            ["coupling_hz"] = t.Tone.CouplingHz, ["cooperativity"] = Number(t.Cooperativity),
+            ["kappa_over_omega_m"] = Number(t.SidebandResolution),
+        }).ToArray());
+        var stages = new JsonArray();
+        for (int i = 0; i < s.Stages.Length; i++)
+        {
+            var st = report.Stages[i];
+            var end = dynamics.Boundaries[i + 1];
+            var stage = new JsonObject
+            {
+                ["name"] = st.Stage.Name,
+                ["start_s"] = st.StartS,
+                ["end_s"] = st.StartS + st.Stage.DurationS,
+                ["stable"] = st.Stability.IsStable,
+                ["max_re_lambda_per_s"] = Number(st.Stability.MaxRealPart),
+                ["slowest_decay_rate_per_s"] = st.Stability.IsStable ? Number(st.Stability.SlowestDecayRate) : null,
+                ["growth_rate_per_s"] = st.Stability.IsStable ? null : Number(st.Stability.GrowthRate),
+                ["end"] = ModesOf(end),
+                ["steady"] = st.SteadyState is null ? null : ModesOf(st.SteadyState),
+                ["steady_residual"] = Number(st.SteadyResidual),
+            };
+            var twoTone = report.TwoTone.Where(t => t.Stage == st.Stage.Name).ToArray();
+            if (twoTone.Length > 0)
+                stage["two_tone"] = new JsonArray(twoTone.Select(t => (JsonNode)new JsonObject
+                {
+                    ["mechanical"] = t.Mechanical, ["cavity"] = t.Cavity, ["squeezing_parameter_r"] = t.SqueezingParameter,
+                    ["damping_rate_per_s"] = t.DampingRate,
+                    ["var_min_bad_cavity"] = t.VarMinBadCavity, ["squeezing_db_bad_cavity"] = Number(t.SqueezingDbBadCavity),
+                    ["var_min_cavity_kept"] = t.VarMinCavityKept, ["squeezing_db_cavity_kept"] = Number(t.SqueezingDbCavityKept),
+                }).ToArray());
+            stages.Add(stage);
+        }
+        root["stages"] = stages;
+        root["warnings"] = new JsonArray(report.Warnings.Select(w => (JsonNode)JsonValue.Create(w)).ToArray());
+        return root;
+    }
+
+    private static JsonObject ModesOf(GaussianState state) =>
+        new(state.ModeNames.Select((m, j) => KeyValuePair.Create<string, JsonNode?>(m, Moments(state.Moments(j)))));
+
+    /// <summary>Writes a JSON object atomically.</summary>
+    public static void Write(JsonObject json, string path) => AtomicFile.WriteAllText(path, json.ToJsonString(Options) + Environment.NewLine);
+}

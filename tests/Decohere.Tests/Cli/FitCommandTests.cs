@@ -1,0 +1,118 @@
+using System.CommandLine;
+using System.Text.Json.Nodes;
+using Decohere.Cli.Commands;
+using Decohere.Tests.Analyses.Fitting;
+
+using CliApp = Decohere.Cli.Commands.Cli;
+using DuckDB.NET.Data;
+
+namespace Decohere.Tests.Cli;
+
+/// <summary>The fit and fit-noise commands end to end on small CSV files.</summary>
+public class FitCommandTests
+{
+    private static RootCommand Root()
+    {
+        var root = new RootCommand("test");
+        root.Subcommands.Add(FitCommand.Create());
+        root.Subcommands.Add(FitNoiseCommand.Create());
+        return root;
+    }
+
+    private static string TempDir()
+    {
+        string dir = Path.Combine(Path.GetTempPath(), $"decohere-fit-{Guid.NewGuid():N}");
+        Directory.CreateDirectory(dir);
+        return dir;
+    }
+
+    [Fact]
+    public async Task FitWritesJsonParquetAndPlot()
+    {
+        string dir = TempDir();
+        try
+        {
+            var truth = SyntheticData.SingleMode(50, 10, 1.3, 0.05);
+            double[] delays = [0, 0.005, 0.01, 0.02, 0.03, 0.04];
+            var data = SyntheticData.Variances(truth, delays, 3000, 21);
+            // The same device in milliseconds and renamed columns, to exercise the mappings.
+            string csv = SyntheticData.VariancesCsv(data).Replace("delay_s,var_i", "t_ms,var_i");
+            csv = string.Join('\n', csv.Split('\n').Select((l, k) => k == 0 || l.Length == 0 ? l : (double.Parse(l.Split(',')[0], System.Globalization.CultureInfo.InvariantCulture) * 1e3).ToString("R", System.Globalization.CultureInfo.InvariantCulture) + l[l.IndexOf(',')..]));
+            string csvPath = Path.Combine(dir, "variances.csv");
+            await File.WriteAllTextAsync(csvPath, csv);
+            string yaml = Path.Combine(dir, "drum.yaml");
+            await File.WriteAllTextAsync(yaml, truth.SourceText.Replace("occupancy: 50", "occupancy: 30"));
+            string outDir = Path.Combine(dir, "out");
+            int code = await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csvPath, "--column", "delay_s=t_ms", "--delay-unit", "ms",
+                "--free", "modes.drum.bath.occupancy,modes.drum.linewidth", "--out", outDir, "--quiet"]);
+            Assert.Equal(CliApp.Ok, code);
+            var json = JsonNode.Parse(await File.ReadAllTextAsync(Path.Combine(outDir, "fit.json")))!;
+            var n = json["parameters"]!["modes.drum.bath.occupancy"]!;
+            double value = n["value"]!.GetValue<double>(), low = n["ci_low"]!.GetValue<double>(), high = n["ci_high"]!.GetValue<double>();
+            Assert.True(low < value && value < high);
+            Assert.True(Math.Abs(value - 50) < 5 * n["stderr"]!.GetValue<double>(), $"occupancy {value}");
+            Assert.NotNull(json["derived"]!["bath_temperature_k"]!["ci_low"]);
+            Assert.NotNull(json["derived"]!["thermal_decoherence_rate_per_s"]);
+            Assert.Equal(2, json["correlation"]!["matrix"]!.AsArray().Count);
+            Assert.Equal(18 - 2, json["goodness_of_fit"]!["degrees_of_freedom"]!.GetValue<int>());
+            Assert.Equal(truth.SourceHash.Length, json["scenario_sha256"]!.GetValue<string>().Length);
+            Assert.True(new FileInfo(Path.Combine(outDir, "fit.png")).Length > 10_000);
+
+            // fit.parquet read back by DuckDB (an independent Parquet reader): one row per delay.
+            using var connection = new DuckDBConnection("DataSource=:memory:");
+            connection.Open();
+            using var command = connection.CreateCommand();
+            command.CommandText = $"SELECT count(*), max(delay_s), count(*) FILTER (WHERE var_i_model_low <= var_i_model AND var_i_model <= var_i_model_high AND (delay_s = 0 OR var_i_model_low < var_i_model_high)) FROM '{Path.Combine(outDir, "fit.parquet")}'";
+            using var reader = command.ExecuteReader();
+            Assert.True(reader.Read());
+            Assert.Equal(6L, reader.GetInt64(0));
+            Assert.Equal(0.04, reader.GetDouble(1), 12);
+            Assert.Equal(6L, reader.GetInt64(2));
+        }
+        finally
+        {
+            Directory.Delete(dir, recursive: true);
+        }
+    }
+
+    [Fact]
+    public async Task BadDataExitsWithTheInputCode()
+    {
+        string dir = TempDir();
+        try
+        {
+            var truth = SyntheticData.SingleMode(50, 10, 1.3, 0.05);
+            string yaml = Path.Combine(dir, "drum.yaml");
+            await File.WriteAllTextAsync(yaml, truth.SourceText);
+            string csv = Path.Combine(dir, "bad.csv");
+            await File.WriteAllTextAsync(csv, "delay_s,var_i,var_q,shots\n0,1,-1,10\n");
+            Assert.Equal(CliApp.BadInput, await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csv, "--out", dir, "--quiet"]));
+            Assert.False(File.Exists(Path.Combine(dir, "fit.json")));
+        }
+        finally
+        {
+            Directory.Delete(dir, recursive: true);
+        }
+    }
+
+    [Fact]
+    public async Task FitNoiseWritesTheCalibration()
+    {
+        string dir = TempDir();
+        try
+        {
+            // Exact variances on var = 2·(n + ½) + 1: the fit must return gain 2 and added noise 1.
+            string csv = Path.Combine(dir, "cal.csv");
+            await File.WriteAllTextAsync(csv, "occupancy,var_i,var_q,shots\n0,2,2,500\n1,4,4,500\n4,10,10,500\n9,20,20,500\n");
+            Assert.Equal(CliApp.Ok, await CliApp.InvokeAsync(Root(), ["fit-noise", "--data", csv, "--out", dir, "--quiet"]));
+            var json = JsonNode.Parse(await File.ReadAllTextAsync(Path.Combine(dir, "fit-noise.json")))!;
+            Assert.Equal(2, json["parameters"]!["gain"]!["value"]!.GetValue<double>(), 1e-6);
+            Assert.Equal(1, json["parameters"]!["added_noise"]!["value"]!.GetValue<double>(), 1e-6);
+            Assert.Equal(0.5, json["derived"]!["added_noise_input_referred"]!["value"]!.GetValue<double>(), 1e-6);
+        }
+        finally
+        {
+            Directory.Delete(dir, recursive: true);
+        }
+    }
+}
