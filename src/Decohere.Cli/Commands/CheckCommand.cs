@@ -3,6 +3,7 @@ using System.CommandLine;
 using Decohere.Analyses.Check;
 using Decohere.Core;
 using Decohere.Engine;
+using Decohere.Model.Readouts;
 
 namespace Decohere.Cli.Commands;
 
@@ -27,6 +28,19 @@ public static class CheckCommand
         }));
         return command;
     }
+
+    /// <summary>The readout chain element by element: each one's gain, its own noise and its share referred to the mode.</summary>
+    public static void PrintReadout(IAnsiConsole o, IReadoutChain readout)
+    {
+        var table = new Table().Title($"readout of {Markup.Escape(readout.Mode)} ({readout.Method}), added noise referred to the mode");
+        foreach (var h in new[] { "element", "", "gain", "noise (own input)", "referred to the mode" }) table.AddColumn(h);
+        foreach (var c in readout.Contributions)
+            table.AddRow(Markup.Escape(c.Element), Markup.Escape(c.Description), Decibels(c.Gain), $"{c.Noise:G4}", $"{c.InputReferred:G4}");
+        table.AddRow("[bold]total[/]", "", Decibels(readout.Gain), "", $"[bold]{readout.AddedNoise:G4}[/] quanta per quadrature");
+        o.Write(table);
+    }
+
+    private static string Decibels(double gain) => $"{10 * Math.Log10(gain):F2} dB";
 
     private static string Hz(double v) => Quantity.Format(v, Dimension.Frequency);
     private static string Rate(double perSecond) => $"{perSecond:G4} s⁻¹";
@@ -83,6 +97,7 @@ public static class CheckCommand
                     t.VarMinBadCavity.ToString("G4"), t.SqueezingDbBadCavity.ToString("F2"), t.VarMinCavityKept.ToString("G4"), t.SqueezingDbCavityKept.ToString("F2"));
             o.Write(two);
         }
+        if (report.Readout is { } readout) PrintReadout(o, readout);
         Cli.Warnings(report.Warnings);
         if (report.Warnings.Length == 0) o.MarkupLine("[green]no warnings[/]");
     }

@@ -1,5 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
+using Decohere.Model.Readouts;
 using Decohere.Analyses.Check;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
@@ -45,11 +46,9 @@ public static class RunCommand
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
             bool showProgress = !isQuiet && !Console.IsErrorRedirected;
-            void OnReadout(ReadoutChain chain)
+            void OnReadout(IReadoutChain chain)
             {
-                if (!isQuiet && chain.Amplification is { } a)
-                    Cli.Out.MarkupLineInterpolated(
-                        $"amplification readout on cavity [bold]{a.Cavity}[/]: gain {a.Gain:G5} ({10 * Math.Log10(a.Gain):F1} dB), pulse added noise {a.PulseAddedNoise:G4} quanta at the output, input-referred added noise {a.AddedNoise:G4} quanta per quadrature");
+                if (!isQuiet) CheckCommand.PrintReadout(Cli.Out, chain);
             }
             var settings = new RunSettings(nTrajectories);
             var written = showProgress

@@ -21,6 +21,13 @@ public static class Physics
         return 1.0 / Math.Expm1Safe(x);
     }
 
+    /// <summary>
+    /// Noise of an amplifier of noise temperature T at frequency f in quanta, k_B·T/(h·f): the Rayleigh–Jeans reading of a
+    /// noise temperature (common practice for microwave amplifiers). It differs from a Bose–Einstein reading by about ½
+    /// quantum when k_B·T is comparable to h·f.
+    /// </summary>
+    public static double NoiseQuanta(double temperatureK, double frequencyHz) => Boltzmann * temperatureK / (Planck * frequencyHz);
+
     /// <summary>Inverse of <see cref="Occupancy"/>: T = h f / (k_B ln(1 + 1/n)).</summary>
     public static double Temperature(double frequencyHz, double occupancy)
     {

@@ -128,7 +128,7 @@ public static class FitOutput
                 var (il, ih) = VarianceStatistics.Interval(o.VarI, o.Shots, fit.Confidence);
                 var (ql, qh) = VarianceStatistics.Interval(o.VarQ, o.Shots, fit.Confidence);
                 Opt(o.VarI); Opt(o.VarQ); Opt(o.CovIQ); Opt(il); Opt(ih); Opt(ql); Opt(qh);
-                double addedNoise = fit.Fitted.Readout!.AddedNoise;
+                double addedNoise = fit.Readout.AddedNoise;
                 double cov = o.CovIQ ?? 0;
                 // Occupancy implied by the data: mean quadrature variance minus the fitted added noise and zero-point ½ (plus the mean's energy);
                 // its error from the χ² variances of s² (2σ⁴/ν) and their covariance (2c²/ν).
@@ -239,7 +239,7 @@ public static class FitOutput
         }
         if (variances)
         {
-            var zp = top.Add.HorizontalLine(0.5 + fit.Fitted.Readout!.AddedNoise);
+            var zp = top.Add.HorizontalLine(0.5 + fit.Readout.AddedNoise);
             zp.Color = Colors.Black;
             zp.LinePattern = LinePattern.Dotted;
             zp.LegendText = "zero-point + added noise";

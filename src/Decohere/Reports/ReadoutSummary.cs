@@ -1,4 +1,5 @@
 using System.Text.Json.Nodes;
+using Decohere.Model.Readouts;
 using Decohere.Core;
 using Decohere.IO;
 using Decohere.Sampling;
@@ -9,28 +10,41 @@ namespace Decohere.Reports;
 /// <summary>The sampled readout as summary.json reports it.</summary>
 public static class ReadoutSummary
 {
-    /// <summary>The <c>readout</c> block of summary.json: method, added noise (and the amplification's gain), shots, seed, per-delay estimates.</summary>
-    public static JsonObject Build(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, SamplerSettings settings)
+    /// <summary>
+    /// The readout model as every JSON output reports it: mode, method, the added noise referred to the mode (quanta per
+    /// quadrature), the whole chain's gain, and each element's contribution.
+    /// </summary>
+    public static JsonObject Chain(IReadoutChain chain)
     {
-        var chain = sampler.Chain;
         var json = new JsonObject
         {
             ["mode"] = chain.Mode,
-            ["method"] = chain.Amplification is null ? "phenomenological" : "amplification",
+            ["method"] = chain.Method,
             ["added_noise"] = SummaryJson.Number(chain.AddedNoise),
-            ["shots_per_delay"] = sampler.ShotsPerDelay,
-            ["seed"] = sampler.Scenario.Seed,
-            ["block_shots"] = settings.BlockShots,
-            ["confidence"] = settings.Confidence,
-            ["jitter"] = !sampler.Scenario.Jitter.IsNone,
+            ["gain"] = SummaryJson.Number(chain.Gain),
+            ["contributions"] = new JsonArray(chain.Contributions.Select(c => (JsonNode)new JsonObject
+            {
+                ["element"] = c.Element, ["description"] = c.Description, ["gain"] = SummaryJson.Number(c.Gain),
+                ["noise"] = SummaryJson.Number(c.Noise), ["input_referred"] = SummaryJson.Number(c.InputReferred),
+            }).ToArray()),
         };
-        if (chain.Amplification is { } a)
+        if (chain is AmplificationReadout a)
             json["amplification"] = new JsonObject
             {
-                ["cavity"] = a.Cavity, ["coupling_hz"] = a.CouplingHz, ["duration_s"] = a.DurationS,
-                ["gain"] = SummaryJson.Number(a.Gain), ["pulse_added_noise"] = SummaryJson.Number(a.PulseAddedNoise),
-                ["detector_noise"] = SummaryJson.Number(a.DetectorNoise), ["input_referred_added_noise"] = SummaryJson.Number(a.AddedNoise),
+                ["cavity"] = a.Cavity, ["pulse_gain"] = SummaryJson.Number(a.PulseGain), ["pulse_added_noise"] = SummaryJson.Number(a.PulseAddedNoise),
             };
+        return json;
+    }
+
+    /// <summary>The <c>readout</c> block of summary.json: method, added noise (and the amplification's gain), shots, seed, per-delay estimates.</summary>
+    public static JsonObject Build(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, SamplerSettings settings)
+    {
+        var json = Chain(sampler.Chain);
+        json["shots_per_delay"] = sampler.ShotsPerDelay;
+        json["seed"] = sampler.Scenario.Seed;
+        json["block_shots"] = settings.BlockShots;
+        json["confidence"] = settings.Confidence;
+        json["jitter"] = !sampler.Scenario.Jitter.IsNone;
         var delays = new JsonArray();
         for (int k = 0; k < estimates.Count; k++)
         {

@@ -1,4 +1,5 @@
 using System.Collections.Immutable;
+using Decohere.Model.Readouts;
 using Decohere.Core;
 using Decohere.Engine;
 using Decohere.Scenarios;
@@ -56,7 +57,7 @@ public sealed class ShotSampler
     public Dynamics Dynamics { get; }
 
     /// <summary>The measurement chain.</summary>
-    public ReadoutChain Chain { get; }
+    public IReadoutChain Chain { get; }
 
     /// <summary>The readout delays with their model states.</summary>
     public ImmutableArray<ReadoutDelay> Delays { get; }
@@ -75,7 +76,7 @@ public sealed class ShotSampler
         if (_settings.BlockShots < 1) throw new ArgumentOutOfRangeException(nameof(settings), "BlockShots must be ≥ 1");
         Scenario = scenario;
         Dynamics = dynamics ?? Dynamics.Solve(scenario);
-        Chain = ReadoutChain.For(scenario);
+        Chain = ReadoutChains.For(scenario);
         var readout = scenario.Readout!;
         ShotsPerDelay = shotsPerDelay ?? readout.Shots;
         double start = Dynamics.StageStarts[scenario.StageIndex(readout.Stage)];

@@ -95,7 +95,19 @@ public sealed partial class ParameterPath
             foreach (var mode in st.BathOverrides.Keys) list.Add($"stages.{st.Name}.bath.{mode}.occupancy");
             foreach (var mode in st.DetuningsHz.Keys) list.Add($"stages.{st.Name}.detuning.{mode}");
         }
-        if (s.Readout is not null) list.AddRange(["readout.added_noise", "readout.shots"]);
+        if (s.Readout is { } r)
+        {
+            if (r.AddedNoise is not null) list.Add("readout.added_noise");
+            list.Add("readout.shots");
+            if (r.Method == ReadoutMethod.Amplification) list.AddRange(["readout.coupling", "readout.duration"]);
+            for (int k = 0; k < r.Elements.Length; k++)
+                list.AddRange(r.Elements[k] switch
+                {
+                    ChainElement.Loss => [$"readout.chain[{k}].efficiency"],
+                    ChainElement.Amplifier { NoiseTemperatureK: not null } => [$"readout.chain[{k}].gain", $"readout.chain[{k}].noise_temperature"],
+                    _ => new[] { $"readout.chain[{k}].gain", $"readout.chain[{k}].noise" },
+                });
+        }
         return list;
     }
 
@@ -104,6 +116,9 @@ public sealed partial class ParameterPath
 
     [GeneratedRegex(@"^tones\[(?<k>\d+)\]\.coupling$")]
     private static partial Regex TonePattern();
+
+    [GeneratedRegex(@"^readout\.chain\[(?<k>\d+)\]\.(?<field>efficiency|gain|noise|noise_temperature)$")]
+    private static partial Regex ChainPattern();
 
     [GeneratedRegex(@"^couplings\[(?<k>\d+)\]\.rate$")]
     private static partial Regex CouplingPattern();
@@ -197,8 +212,35 @@ public sealed partial class ParameterPath
                     (x, v) => WithStage(x, index, st => st with { DetuningsHz = st.DetuningsHz.SetItem(r[1], v) }), signed: true);
             return null;
         }
-        if (s.Readout is not null && path == "readout.added_noise")
-            return new(path, Dimension.Dimensionless, false, x => x.Readout!.AddedNoise, (x, v) => x with { Readout = x.Readout! with { AddedNoise = v } });
+        if (s.Readout is { AddedNoise: not null } && path == "readout.added_noise")
+            return new(path, Dimension.Dimensionless, false, x => x.Readout!.AddedNoise!.Value, (x, v) => x with { Readout = x.Readout! with { AddedNoise = v } });
+        if (s.Readout is { Method: ReadoutMethod.Amplification } && path == "readout.coupling")
+            return new(path, Dimension.Frequency, true, x => x.Readout!.AmplificationCouplingHz,
+                (x, v) => x with { Readout = x.Readout! with { AmplificationCouplingHz = v } });
+        if (s.Readout is { Method: ReadoutMethod.Amplification } && path == "readout.duration")
+            return new(path, Dimension.Time, true, x => x.Readout!.AmplificationDurationS,
+                (x, v) => x with { Readout = x.Readout! with { AmplificationDurationS = v } });
+        if (s.Readout is { } readout && ChainPattern().Match(path) is { Success: true } chm)
+        {
+            int k = int.Parse(chm.Groups["k"].Value, CultureInfo.InvariantCulture);
+            if (k >= readout.Elements.Length) return null;
+            Scenario WithElement(Scenario x, ChainElement e) => x with { Readout = x.Readout! with { Chain = x.Readout!.Elements.SetItem(k, e) } };
+            return (chm.Groups["field"].Value, readout.Elements[k]) switch
+            {
+                ("efficiency", ChainElement.Loss) => new(path, Dimension.Dimensionless, true, x => ((ChainElement.Loss)x.Readout!.Elements[k]).Efficiency,
+                    (x, v) => v <= 1 ? WithElement(x, new ChainElement.Loss(v))
+                        : throw new InputException($"{path}: {v.ToString(CultureInfo.InvariantCulture)} is out of range; a transmission must be in (0, 1]")),
+                ("gain", ChainElement.Amplifier) => new(path, Dimension.Decibel, false, x => ((ChainElement.Amplifier)x.Readout!.Elements[k]).GainDb,
+                    (x, v) => WithElement(x, (ChainElement.Amplifier)x.Readout!.Elements[k] with { GainDb = v }), signed: true),
+                ("noise", ChainElement.Amplifier { NoiseTemperatureK: null }) => new(path, Dimension.Dimensionless, false,
+                    x => ((ChainElement.Amplifier)x.Readout!.Elements[k]).Noise,
+                    (x, v) => WithElement(x, (ChainElement.Amplifier)x.Readout!.Elements[k] with { Noise = v })),
+                ("noise_temperature", ChainElement.Amplifier { NoiseTemperatureK: not null, FrequencyHz: { } f }) => new(path, Dimension.Temperature, true,
+                    x => ((ChainElement.Amplifier)x.Readout!.Elements[k]).NoiseTemperatureK!.Value,
+                    (x, v) => WithElement(x, (ChainElement.Amplifier)x.Readout!.Elements[k] with { NoiseTemperatureK = v, Noise = Physics.NoiseQuanta(v, f) })),
+                _ => null,
+            };
+        }
         if (s.Readout is not null && path == "readout.shots")
             return new(path, Dimension.Dimensionless, true, x => x.Readout!.Shots,
                 (x, v) => x with { Readout = x.Readout! with { Shots = Math.Max(2, (int)Math.Round(v)) } });

@@ -63,20 +63,43 @@ public abstract record InitialState
     public sealed record Steady : InitialState;
 }
 
-/// <summary>How the readout is modelled: added Gaussian noise, or a blue-sideband amplification pulse before a detector.</summary>
+/// <summary>How the readout is modelled: added Gaussian noise, or a blue-sideband amplification pulse before the chain.</summary>
 public enum ReadoutMethod { Phenomenological, Amplification }
 
-/// <summary>The measurement: which mode, its input-referred added noise (quanta per quadrature), shots and delays.</summary>
+/// <summary>One element of the measurement chain after the read cavity's output, in signal order.</summary>
+public abstract record ChainElement
+{
+    /// <summary>A transmission η (line loss, collection, κ_ext/κ): the rest of the signal is replaced by vacuum.</summary>
+    public sealed record Loss(double Efficiency) : ChainElement;
+
+    /// <summary>
+    /// A phase-insensitive amplifier of power gain <paramref name="GainDb"/> adding <paramref name="Noise"/> quanta per
+    /// quadrature referred to its input. When the file gave a noise temperature, it is kept with the frequency it was
+    /// converted at.
+    /// </summary>
+    public sealed record Amplifier(double GainDb, double Noise, double? NoiseTemperatureK = null, double? FrequencyHz = null) : ChainElement;
+}
+
+/// <summary>
+/// The measurement: which mode, how it is read (<see cref="Method"/>), shots and delays. A phenomenological readout gives
+/// <see cref="AddedNoise"/> (input-referred quanta per quadrature) or a <see cref="Chain"/>, never both; an amplification
+/// readout gives its pulse (<see cref="AmplificationCouplingHz"/>, <see cref="AmplificationDurationS"/>) and the chain
+/// after it. The loader enforces these combinations.
+/// </summary>
 public sealed record Readout(
     string Mode,
-    double AddedNoise,
+    double? AddedNoise,
     int Shots,
     string Stage,
     ImmutableArray<double> DelaysS,
     ReadoutMethod Method = ReadoutMethod.Phenomenological,
     double AmplificationCouplingHz = 0,
     double AmplificationDurationS = 0,
-    double DetectorNoise = 0);
+    ImmutableArray<ChainElement> Chain = default)
+{
+    /// <summary>The chain elements (empty when none were given).</summary>
+    public ImmutableArray<ChainElement> Elements => Chain.IsDefault ? [] : Chain;
+}
 
 /// <summary>Shot-to-shot spread (Gaussian σ) of device parameters; empty means a pure Gaussian ensemble.</summary>
 public sealed record Jitter(

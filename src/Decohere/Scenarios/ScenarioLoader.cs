@@ -382,14 +382,12 @@ public static class ScenarioLoader
         {
             var r = Reader;
             const string path = "readout";
-            var m = r.Mapping(node, path, "mode", "added_noise", "shots", "stage", "delays", "method", "coupling", "duration", "detector_noise");
+            var m = r.Mapping(node, path, "mode", "added_noise", "chain", "shots", "stage", "delays", "method", "coupling", "duration", "detector_noise");
             if (m is null) return null;
             var mode = ModeRef(r.Required(m, path, "mode", "name of the measured mode"), path + ".mode", modes, null);
             var method = r.Enum(YamlReader.Get(m, "method"), path + ".method",
                 ("phenomenological", ReadoutMethod.Phenomenological), ("amplification", ReadoutMethod.Amplification)) ?? ReadoutMethod.Phenomenological;
-            double? added = method == ReadoutMethod.Phenomenological
-                ? r.Number(r.Required(m, path, "added_noise", "quanta per quadrature, input-referred"), path + ".added_noise", Dimension.Dimensionless, 0)
-                : r.Number(YamlReader.Get(m, "added_noise"), path + ".added_noise", Dimension.Dimensionless, 0);
+            double? added = r.Number(YamlReader.Get(m, "added_noise"), path + ".added_noise", Dimension.Dimensionless, 0);
             long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, 1_000_000_000_000);
             string? stageName = r.String(r.Required(m, path, "stage", "stage the delays count from"), path + ".stage");
             int stageIndex = -1;
@@ -412,23 +410,94 @@ public static class ScenarioLoader
             }
             if (seq is not null && seq.Children.Count == 0) r.Report(path + ".delays", seq, "at least one delay is needed");
 
-            double coupling = 0, duration = 0, detector = 0;
+            // The read cavity: the one a tone couples to the measured mode; it fixes the frequency of noise temperatures.
+            var readCavity = mode is null ? null : stages.SelectMany(s => s.Tones).FirstOrDefault(t => t.Mechanical == mode.Name) is { } tone ? modes[tone.Cavity] : null;
+            var chain = ChainOf(YamlReader.Get(m, "chain"), path + ".chain", readCavity);
+            var addedNode = YamlReader.Get(m, "added_noise");
+            var chainNode = YamlReader.Get(m, "chain");
+            var detectorNode = YamlReader.Get(m, "detector_noise");
+            double coupling = 0, duration = 0;
             if (method == ReadoutMethod.Amplification)
             {
                 coupling = r.Number(r.Required(m, path, "coupling", "blue-sideband coupling of the amplification pulse"), path + ".coupling", Dimension.Frequency, 0, minExclusive: true) ?? 0;
                 duration = r.Number(r.Required(m, path, "duration", "length of the amplification pulse"), path + ".duration", Dimension.Time, 0, minExclusive: true) ?? 0;
-                detector = r.Number(r.Required(m, path, "detector_noise", "detector noise in quanta, referred to its input"), path + ".detector_noise", Dimension.Dimensionless, 0) ?? 0;
                 if (mode is not null && mode.Kind != ModeKind.Mechanical)
                     r.Report(path + ".mode", YamlReader.Get(m, "mode"), "amplification readout needs a mechanical readout mode");
+                if (addedNode is not null)
+                    r.Report(path + ".added_noise", addedNode, "with method: amplification the added noise follows from the pulse and readout.chain; remove added_noise, or use method: phenomenological");
+                if (detectorNode is not null && chainNode is not null)
+                    r.Report(path + ".detector_noise", detectorNode, "give readout.detector_noise or readout.chain, not both (detector_noise is shorthand for chain: [{ gain: 0 dB, noise: N }])");
+                // detector_noise: N is a one-element chain, a detector adding N quanta referred to its own input.
+                else if (detectorNode is not null && r.Number(detectorNode, path + ".detector_noise", Dimension.Dimensionless, 0) is { } detector)
+                    chain = [new ChainElement.Amplifier(0, detector)];
             }
             else
             {
                 foreach (var key in new[] { "coupling", "duration", "detector_noise" })
                     if (YamlReader.Get(m, key) is { } extra)
                         r.Report($"{path}.{key}", extra, $"'{key}' applies only to method: amplification");
+                if (addedNode is not null && chainNode is not null)
+                    r.Report(path + ".added_noise", addedNode, "give readout.added_noise or readout.chain, not both: the chain's added noise follows from its elements");
+                else if (addedNode is null && chainNode is null)
+                    r.Report(path, m, "missing 'added_noise' (quanta per quadrature, input-referred) or 'chain' (the elements after the cavity output)");
             }
-            if (mode is null || shots is null || stageIndex < 0 || (added is null && method == ReadoutMethod.Phenomenological)) return null;
-            return new Readout(mode.Name, added ?? 0, (int)Math.Min(shots.Value, int.MaxValue), stageName!, delays.ToImmutable(), method, coupling, duration, detector);
+            if (mode is null || shots is null || stageIndex < 0) return null;
+            return new Readout(mode.Name, method == ReadoutMethod.Phenomenological && chainNode is null ? added : null,
+                (int)Math.Min(shots.Value, int.MaxValue), stageName!, delays.ToImmutable(), method, coupling, duration, chain);
+        }
+
+        private ImmutableArray<ChainElement> ChainOf(YamlNode? node, string path, Mode? readCavity)
+        {
+            var r = Reader;
+            var seq = r.Sequence(node, path);
+            var result = ImmutableArray.CreateBuilder<ChainElement>();
+            for (int k = 0; seq is not null && k < seq.Children.Count; k++)
+            {
+                string p = $"{path}[{k}]";
+                var e = r.Mapping(seq.Children[k], p, "efficiency", "gain", "noise", "noise_temperature", "frequency");
+                if (e is null) continue;
+                if (YamlReader.Has(e, "efficiency"))
+                {
+                    foreach (var key in new[] { "gain", "noise", "noise_temperature", "frequency" })
+                        if (YamlReader.Get(e, key) is { } extra)
+                            r.Report($"{p}.{key}", extra, "an element is a loss (efficiency) or an amplifier (gain with noise or noise_temperature), not both");
+                    if (r.Number(YamlReader.Get(e, "efficiency"), p + ".efficiency", Dimension.Dimensionless, 0, minExclusive: true, max: 1) is { } eta)
+                        result.Add(new ChainElement.Loss(eta));
+                    continue;
+                }
+                double? gain = r.Number(r.Required(e, p, "gain", "power gain, e.g. 20 dB (or efficiency for a loss)"), p + ".gain", Dimension.Decibel);
+                var noiseNode = YamlReader.Get(e, "noise");
+                var temperatureNode = YamlReader.Get(e, "noise_temperature");
+                var frequencyNode = YamlReader.Get(e, "frequency");
+                if (noiseNode is not null && temperatureNode is not null)
+                {
+                    r.Report(p + ".noise_temperature", temperatureNode, "give noise (quanta, referred to the amplifier's input) or noise_temperature, not both");
+                    continue;
+                }
+                if (noiseNode is null && temperatureNode is null)
+                {
+                    r.Report(p, e, "missing 'noise' (quanta per quadrature, referred to the amplifier's input) or 'noise_temperature'");
+                    continue;
+                }
+                if (noiseNode is not null)
+                {
+                    if (frequencyNode is not null)
+                        r.Report(p + ".frequency", frequencyNode, "frequency converts a noise_temperature to quanta; with noise in quanta it is not used");
+                    if (r.Number(noiseNode, p + ".noise", Dimension.Dimensionless, 0) is { } n && gain is not null)
+                        result.Add(new ChainElement.Amplifier(gain.Value, n));
+                    continue;
+                }
+                double? t = r.Number(temperatureNode, p + ".noise_temperature", Dimension.Temperature, 0);
+                double? f = frequencyNode is not null
+                    ? r.Number(frequencyNode, p + ".frequency", Dimension.Frequency, 0, minExclusive: true)
+                    : readCavity?.FrequencyHz;
+                if (frequencyNode is null && readCavity is null)
+                    r.Report(p + ".noise_temperature", temperatureNode,
+                        "needs a frequency to convert to quanta: no tone couples a cavity to the readout mode; add frequency: (e.g. 6 GHz) or give noise in quanta");
+                if (t is not null && f is not null && gain is not null)
+                    result.Add(new ChainElement.Amplifier(gain.Value, Physics.NoiseQuanta(t.Value, f.Value), t.Value, f.Value));
+            }
+            return result.ToImmutable();
         }
 
         private Jitter JitterOf(YamlNode? node, Dictionary<string, Mode> modes)

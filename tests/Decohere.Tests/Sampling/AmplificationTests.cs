@@ -1,3 +1,4 @@
+using Decohere.Model.Readouts;
 using Decohere.Core;
 using Decohere.Sampling;
 using Decohere.Scenarios;
@@ -29,12 +30,12 @@ public class AmplificationTests
     {
         // PHYSICS.md "Parametric amplification" (effective model, γ > 0): g = e^{(Γ−γ)t}, Γ = 4G²/κ, added variance
         // (g − 1)[Γ(n_c + ½) + γ(n_th + ½)]/(Γ − γ); input-referred noise (added + n_det)/g (Caves 1982; Clerk et al. 2010).
-        var a = ReadoutChain.For(Amplified("effective", "5 Hz", 0.1)).Amplification!;
+        var a = (AmplificationReadout)ReadoutChains.For(Amplified("effective", "5 Hz", 0.1));
         double G = 2 * Math.PI * 10e3, kappa = 2 * Math.PI * 200e3, gamma = 2 * Math.PI * 5, t = 80e-6;
         double big = 4 * G * G / kappa;
         double g = Math.Exp((big - gamma) * t);
         double added = (g - 1) * (big * 0.6 + gamma * 30.5) / (big - gamma);
-        Assert.Equal(g, a.Gain, 1e-7 * g);
+        Assert.Equal(g, a.PulseGain, 1e-7 * g);
         Assert.Equal(added, a.PulseAddedNoise, 1e-7 * added);
         Assert.Equal((added + 20) / g, a.AddedNoise, 1e-7);
         Assert.Equal("res", a.Cavity);
@@ -47,11 +48,11 @@ public class AmplificationTests
         // holds exactly for the model's own gain (C. M. Caves, Phys. Rev. D 26, 1817 (1982)); and g is below e^{Γt}.
         var scenario = Amplified("full", "1 Hz", 0.3);
         scenario = scenario with { Modes = [.. scenario.Modes.Select(m => m.Kind == ModeKind.Mechanical ? m with { LinewidthHz = 0 } : m)] };
-        var a = ReadoutChain.For(scenario).Amplification!;
-        Assert.True(a.Gain > 2, $"gain {a.Gain}");
-        Assert.Equal((a.Gain - 1) * 0.8, a.PulseAddedNoise, 1e-8 * a.PulseAddedNoise);
+        var a = (AmplificationReadout)ReadoutChains.For(scenario);
+        Assert.True(a.PulseGain > 2, $"gain {a.PulseGain}");
+        Assert.Equal((a.PulseGain - 1) * 0.8, a.PulseAddedNoise, 1e-8 * a.PulseAddedNoise);
         double G = 2 * Math.PI * 10e3, kappa = 2 * Math.PI * 200e3;
-        Assert.True(a.Gain < Math.Exp(4 * G * G / kappa * 80e-6));
+        Assert.True(a.PulseGain < Math.Exp(4 * G * G / kappa * 80e-6));
     }
 
     [Fact]
@@ -76,7 +77,7 @@ public class AmplificationTests
     {
         var scenario = Amplified("effective", "5 Hz", 0.1);
         scenario = scenario with { Stages = [.. scenario.Stages.Select(s => s with { Tones = [] })] };
-        var e = Assert.Throws<InputException>(() => ReadoutChain.For(scenario));
+        var e = Assert.Throws<InputException>(() => ReadoutChains.For(scenario));
         Assert.Contains("readout.method", e.Message);
     }
 }

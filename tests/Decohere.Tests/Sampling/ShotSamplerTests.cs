@@ -39,7 +39,7 @@ public class ShotSamplerTests
         var scenario = Named(name);
         var sampler = new ShotSampler(scenario);
         var rows = await Collect(sampler);
-        double n = sampler.ShotsPerDelay, noise = scenario.Readout!.AddedNoise;
+        double n = sampler.ShotsPerDelay, noise = scenario.Readout!.AddedNoise!.Value;
         foreach (var delay in sampler.Delays)
         {
             var shots = rows.Where(r => r.Delay == delay.Index).ToList();

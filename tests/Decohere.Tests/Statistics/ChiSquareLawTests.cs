@@ -39,7 +39,7 @@ public class ChiSquareLawTests
         for (int r = 0; r < repetitions; r++)
         {
             var sampler = new ShotSampler(scenario with { Seed = 1000 + r }, dynamics);
-            sigma2 = sampler.Delays[1].Model.VarX + scenario.Readout!.AddedNoise;
+            sigma2 = sampler.Delays[1].Model.VarX + scenario.Readout!.AddedNoise!.Value;
             var stats = await sampler.RunAsync();
             variances[r] = stats[1].VarianceI;
         }
@@ -69,7 +69,7 @@ public class ChiSquareLawTests
         for (int r = 0; r < repetitions; r++)
         {
             var s = new ShotSampler(scenario with { Seed = 50_000 + r }, sampler.Dynamics).SampleStatistics(1, 800);
-            var e = ReadoutEstimator.Estimate(s, scenario.Readout!.AddedNoise, delay.Model, (ulong)r, resamples: 400);
+            var e = ReadoutEstimator.Estimate(s, scenario.Readout!.AddedNoise!.Value, delay.Model, (ulong)r, resamples: 400);
             if (e.VarX.Covers) coverX++;
             if (e.VarMin.Covers) coverMin++;
             if (e.SqueezingDb.Covers) coverDb++;

@@ -1,6 +1,7 @@
 using System.Collections.Immutable;
 using Decohere.Core;
 using Decohere.Engine;
+using Decohere.Model.Readouts;
 using Decohere.Scenarios;
 
 namespace Decohere.Analyses.Check;
@@ -43,6 +44,7 @@ public sealed record ScenarioReport(
     ImmutableArray<MechanicalReport> Mechanical,
     ImmutableArray<StageReport> Stages,
     ImmutableArray<TwoToneReport> TwoTone,
+    IReadoutChain? Readout,
     ImmutableArray<string> Warnings)
 {
     /// <summary>Analyses a scenario with its solved dynamics.</summary>
@@ -98,13 +100,11 @@ public sealed record ScenarioReport(
                     warnings.Add($"stage '{s.Stages[i].Name}' steady state: {w}");
         }
 
-        if (s.Readout is { } readout)
-        {
-            if (readout.Method == ReadoutMethod.Phenomenological && readout.AddedNoise < 0.5)
-                warnings.Add($"readout.added_noise = {readout.AddedNoise:G4} is below ½, the quantum limit of a phase-insensitive readout of both quadratures (C. M. Caves, Phys. Rev. D 26, 1817 (1982))");
-        }
+        var readout = s.Readout is null ? null : ReadoutChains.For(s);
+        if (readout is not null && readout.AddedNoise < Physics.ZeroPointVariance)
+            warnings.Add($"the readout's added noise {readout.AddedNoise:G4} quanta is below ½, the quantum limit of a phase-insensitive readout of both quadratures (C. M. Caves, Phys. Rev. D 26, 1817 (1982))");
 
-        return new ScenarioReport(tones.ToImmutable(), mechanical, stages.ToImmutable(), TwoToneReports(s), warnings.ToImmutable());
+        return new ScenarioReport(tones.ToImmutable(), mechanical, stages.ToImmutable(), TwoToneReports(s), readout, warnings.ToImmutable());
     }
 
     private static ImmutableArray<TwoToneReport> TwoToneReports(Scenario s)

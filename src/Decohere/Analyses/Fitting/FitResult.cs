@@ -1,4 +1,5 @@
 using System.Collections.Immutable;
+using Decohere.Model.Readouts;
 using Decohere.Analyses.Calibration;
 using Decohere.IO;
 using Decohere.Scenarios;
@@ -53,6 +54,7 @@ public sealed record FitCurve(ImmutableArray<double> DelaysS, ImmutableArray<Rea
 public sealed record FitResult(
     Scenario Scenario,
     Scenario Fitted,
+    IReadoutChain Readout,
     FitData Data,
     ImmutableArray<ParameterPath> Paths,
     ImmutableArray<FittedQuantity> Parameters,

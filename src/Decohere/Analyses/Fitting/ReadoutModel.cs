@@ -1,6 +1,7 @@
 using Decohere.Analyses.Calibration;
 using Decohere.Core;
 using Decohere.Engine;
+using Decohere.Model.Readouts;
 using Decohere.IO;
 using Decohere.Numerics;
 using Decohere.Scenarios;
@@ -26,16 +27,13 @@ public sealed class ReadoutModel
     private readonly Readout _readout;
 
     /// <summary>Builds the model of <paramref name="scenario"/>'s readout with the given free parameters.</summary>
-    /// <exception cref="InputException">The scenario has no readout, an amplification readout, or its readout mode is not in the state.</exception>
+    /// <exception cref="InputException">The scenario has no readout, or its readout mode is not in the state.</exception>
     public ReadoutModel(Scenario scenario, IReadOnlyList<ParameterPath> free)
     {
         _scenario = scenario;
         _readout = scenario.Readout ?? throw new InputException($"scenario '{scenario.Name}' has no readout block: a fit needs readout.mode and readout.stage");
-        if (_readout.Method != ReadoutMethod.Phenomenological)
-            throw new InputException("readout.method: the fit models the phenomenological readout only (added noise on both quadratures); " +
-                "refer amplified data to the amplifier's input and use method: phenomenological with readout.added_noise");
-        if (!Model.ModelBuilder.StateModes(scenario).Any(m => m.Name == _readout.Mode))
-            throw new InputException($"readout.mode: '{_readout.Mode}' is not in the state vector of the {scenario.Model.ToString().ToLowerInvariant()} model; measure a mechanical mode or use model: full");
+        // Builds the readout once up front so that a readout the model cannot express is refused before the fit starts.
+        ReadoutChains.For(scenario);
         Free = free;
     }
 
@@ -57,6 +55,8 @@ public sealed class ReadoutModel
     public static ReadoutPrediction[] Predict(Scenario scenario, IReadOnlyList<double> delays)
     {
         var readout = scenario.Readout!;
+        // The readout is part of the model: freed chain or pulse parameters change the added noise.
+        double addedNoise = ReadoutChains.For(scenario).AddedNoise;
         var dynamics = Dynamics.Solve(scenario);
         int stage = scenario.StageIndex(readout.Stage);
         int mode = dynamics.ModeNames.IndexOf(readout.Mode);
@@ -96,7 +96,7 @@ public sealed class ReadoutModel
             int a = 2 * mode, b = a + 1;
             double vx = v[a * n + a], vp = v[b * n + b], c = 0.5 * (v[a * n + b] + v[b * n + a]);
             double occupancy = 0.5 * (vx + vp) - 0.5 + 0.5 * (mean[a] * mean[a] + mean[b] * mean[b]);
-            result[k] = new ReadoutPrediction(vx + readout.AddedNoise, vp + readout.AddedNoise, c, mean[a], mean[b], occupancy);
+            result[k] = new ReadoutPrediction(vx + addedNoise, vp + addedNoise, c, mean[a], mean[b], occupancy);
         }
         return result;
     }

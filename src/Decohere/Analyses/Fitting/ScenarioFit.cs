@@ -5,6 +5,7 @@ using System.Diagnostics;
 using System.Globalization;
 using Decohere.Analyses.Calibration;
 using Decohere.Core;
+using Decohere.Model.Readouts;
 using Decohere.IO;
 using Decohere.Scenarios;
 using Decohere.Statistics;
@@ -18,12 +19,15 @@ namespace Decohere.Analyses.Fitting;
 /// </summary>
 public static class ScenarioFit
 {
-    /// <summary>The default free parameters: the readout mode's bath occupancy and linewidth, plus the added noise when the data are variances or shots.</summary>
+    /// <summary>
+    /// The default free parameters: the readout mode's bath occupancy and linewidth, plus a stated <c>readout.added_noise</c> when the
+    /// data are variances or shots. A readout given by a chain or a pulse stays fixed unless its parameters are freed by name.
+    /// </summary>
     public static IReadOnlyList<string> DefaultFree(Scenario scenario, DataShape shape)
     {
         var readout = scenario.Readout ?? throw new InputException($"scenario '{scenario.Name}' has no readout block");
         var list = new List<string> { $"modes.{readout.Mode}.bath.occupancy", $"modes.{readout.Mode}.linewidth" };
-        if (shape != DataShape.Occupancies) list.Add("readout.added_noise");
+        if (shape != DataShape.Occupancies && scenario.Readout?.AddedNoise is not null) list.Add("readout.added_noise");
         return list;
     }
 
@@ -40,8 +44,8 @@ public static class ScenarioFit
         foreach (var path in paths)
         {
             if (path.Text == "readout.shots") throw new InputException("--free: readout.shots is a count, not a continuous parameter; it cannot be fitted");
-            if (path.Text == "readout.added_noise" && data.Shape == DataShape.Occupancies)
-                throw new InputException("--free: readout.added_noise does not enter occupancy data (occupancies are already noise-subtracted); fit it from shots or variances");
+            if (path.Text.StartsWith("readout.", StringComparison.Ordinal) && path.Text != "readout.shots" && data.Shape == DataShape.Occupancies)
+                throw new InputException($"free parameters: {path.Text} does not enter occupancy data (occupancies are already noise-subtracted); fit it from shots or variances");
         }
         var model = new ReadoutModel(scenario, paths);
         var delays = data.Delays.Select(d => d.DelayS).ToArray();
@@ -98,7 +102,7 @@ public static class ScenarioFit
         var grid = Enumerable.Range(0, points).Select(k => maxDelay * k / (points - 1)).ToArray();
         var (curveModel, curveSd) = Band(model, ml, grid);
 
-        return new FitResult(scenario, fitted, data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
+        return new FitResult(scenario, fitted, ReadoutChains.For(fitted), data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
             new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], Deviance.Describe(data),
             settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
     }

@@ -1,6 +1,7 @@
 using System.Collections.Immutable;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
+using Decohere.Model.Readouts;
 using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
@@ -67,8 +68,8 @@ public sealed record LifetimeSensitivity(
     string Parameter, string Change, double From, double To,
     double? PhysicalLifetimeS, double? ObservableLifetimeS, double? PhysicalChangeS, double? ObservableChangeS);
 
-/// <summary>The readout the observable lifetime assumes.</summary>
-public sealed record ReadoutAssumption(double AddedNoise, long Shots, double Confidence);
+/// <summary>The readout the observable lifetime assumes: the readout model's added noise (quanta, input-referred) and method.</summary>
+public sealed record ReadoutAssumption(double AddedNoise, long Shots, double Confidence, string Method);
 
 /// <summary>The lifetimes of one scenario (without sensitivities).</summary>
 public sealed record LifetimeCore(
@@ -210,16 +211,15 @@ public static class LifetimeAnalysis
         if (s.Readout is not { } r)
         {
             observableStatus = LifetimeStatus.NoReadout;
-            notes.Add("the scenario has no readout block; the observable lifetime needs readout.added_noise and readout.shots");
+            notes.Add("the scenario has no readout block; the observable lifetime needs a readout (its added noise and shots)");
         }
         else
         {
             if (r.Mode != track.Mode)
                 notes.Add($"the readout measures '{r.Mode}', the lifetime follows '{track.Mode}'; the observable lifetime applies the readout's noise and shots to '{track.Mode}'");
-            if (r.Method == ReadoutMethod.Amplification)
-                notes.Add($"readout.method amplification: the observable lifetime takes readout.added_noise ({r.AddedNoise:G4}) as the input-referred added noise and does not model the amplification pulse");
-            readout = new ReadoutAssumption(r.AddedNoise, r.Shots, settings.Confidence);
-            double Power(double v) => VarianceStatistics.ResolutionProbability(v, r.AddedNoise, r.Shots, threshold, settings.Confidence);
+            var chain = ReadoutChains.For(s);
+            readout = new ReadoutAssumption(chain.AddedNoise, r.Shots, settings.Confidence, chain.Method);
+            double Power(double v) => VarianceStatistics.ResolutionProbability(v, chain.AddedNoise, r.Shots, threshold, settings.Confidence);
             power0 = Power(v0);
             if (power0 < ObservablePower)
             {
@@ -248,8 +248,14 @@ public static class LifetimeAnalysis
             ($"modes.{core.Mode}.bath.temperature", "+1 mK", t => t + 1e-3),
             ($"modes.{core.Mode}.linewidth", "×2", g => 2 * g),
         };
-        if (scenario.Readout is not null)
+        if (scenario.Readout is { } readout)
         {
+            // A readout given by a chain or a pulse is replaced by its stated equivalent, so that the added noise itself can change.
+            if (readout.AddedNoise is null)
+                scenario = scenario with
+                {
+                    Readout = readout with { Method = ReadoutMethod.Phenomenological, AddedNoise = ReadoutChains.For(scenario).AddedNoise, Chain = [] },
+                };
             changes.Add(("readout.added_noise", "+0.1 quanta", n => n + 0.1));
             changes.Add(("readout.shots", "×2", n => Math.Min(2 * n, int.MaxValue)));
         }

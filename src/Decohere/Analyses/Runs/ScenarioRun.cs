@@ -1,4 +1,5 @@
 using System.Text.Json.Nodes;
+using Decohere.Model.Readouts;
 using Decohere.Analyses.Check;
 using Decohere.Core;
 using Decohere.Engine;
@@ -41,7 +42,7 @@ public static class ScenarioRun
     /// <param name="onReadout">Called once the readout chain is known (e.g. to print an amplification readout's gain).</param>
     /// <param name="cancel">Stops the run; finished files stay, partial ones are deleted.</param>
     public static async Task<RunOutput> WriteAsync(Scenario scenario, string directory, RunSettings? settings = null,
-        IRunProgress? progress = null, Action<ReadoutChain>? onReadout = null, CancellationToken cancel = default)
+        IRunProgress? progress = null, Action<IReadoutChain>? onReadout = null, CancellationToken cancel = default)
     {
         settings ??= new RunSettings();
         var sampling = settings.Sampler ?? SamplerSettings.Default;

@@ -2,6 +2,7 @@ using System.Collections.Immutable;
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
+using Decohere.Model.Readouts;
 using Decohere.Engine;
 using Decohere.Model;
 using Decohere.Scenarios;
@@ -179,8 +180,6 @@ public static class Metrics
     {
         const string name = "resolution_probability";
         var readout = s.Readout ?? throw new InputException($"--metrics: {name} needs a readout section in the scenario");
-        if (readout.Method != ReadoutMethod.Phenomenological)
-            throw new InputException($"--metrics: {name} supports readout method phenomenological only (this scenario's readout amplifies; sample it instead)");
         double delay;
         if (arg is null)
         {
@@ -200,8 +199,7 @@ public static class Metrics
                 if (t > sc.TotalDurationS * (1 + 1e-12))
                     throw new InputException($"{name}: the readout at {Quantity.Format(delay, Dimension.Time)} after the start of '{stage}' is past the end of the last stage");
                 double varMin = p.Dynamics.StateAt(t).Moments(mode).VarMin;
-                var r = sc.Readout!;
-                return VarianceStatistics.ResolutionProbability(varMin, r.AddedNoise, r.Shots);
+                return VarianceStatistics.ResolutionProbability(varMin, ReadoutChains.For(sc).AddedNoise, sc.Readout!.Shots);
             });
     }
 }

@@ -59,7 +59,7 @@ internal static class SyntheticData
         var state = dynamics.StateAt(dynamics.StageStarts[s.StageIndex(readout.Stage)] + delayS);
         int j = state.ModeNames.IndexOf(readout.Mode);
         var m = state.Moments(j);
-        return Matrix<double>.Build.DenseOfArray(new[,] { { m.VarX + readout.AddedNoise, m.CovXP }, { m.CovXP, m.VarP + readout.AddedNoise } });
+        return Matrix<double>.Build.DenseOfArray(new[,] { { m.VarX + readout.AddedNoise!.Value, m.CovXP }, { m.CovXP, m.VarP + readout.AddedNoise!.Value } });
     }
 
     /// <summary>Per-delay shots (i, q) drawn from N(0, Σ(delay)).</summary>
