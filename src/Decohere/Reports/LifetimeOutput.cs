@@ -67,7 +67,7 @@ public static class LifetimeOutput
         root["observable_criterion"] = "first delay at which the power (probability that the one-sided χ² upper confidence bound of var − added_noise is below threshold_var) falls to 0.5, the median-measurement criterion";
         root["power_at_reference"] = Nullable(c.PowerAtStart);
         root["readout"] = c.Readout is { } r
-            ? new JsonObject { ["added_noise"] = r.AddedNoise, ["shots"] = r.Shots, ["confidence"] = r.Confidence }
+            ? new JsonObject { ["method"] = r.Method, ["added_noise"] = r.AddedNoise, ["shots"] = r.Shots, ["confidence"] = r.Confidence }
             : null;
         root["sensitivities"] = new JsonArray(report.Sensitivities.Select(s => (JsonNode)new JsonObject
         {

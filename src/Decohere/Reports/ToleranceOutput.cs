@@ -73,6 +73,13 @@ public static class ToleranceOutput
         {
             ["added_noise"] = x.AddedNoise, ["shots"] = x.Shots,
         }).ToArray());
+        if (r.ScenarioReadout is { } own)
+        {
+            var readout = ReadoutSummary.Chain(own.Chain);
+            readout["shots"] = own.Shots;
+            readout["power"] = SummaryJson.Number(own.Power);
+            root["readout"] = readout;
+        }
         root["notes"] = new JsonArray(r.Notes.Select(n => (JsonNode)JsonValue.Create(n)).ToArray());
         return root;
     }

@@ -83,6 +83,10 @@ public static class Metrics
                 return new Metric($"thermal_decoherence_rate:{mode}", $"thermal_decoherence_rate_per_s.{mode}", "γ·n_th",
                     p => p.Scenario.ModeNamed(mode) is var m ? m.DecayRate * m.Bath.Occupancy : 0);
             }),
+        new("added_noise", MetricArgument.None, "the readout's added noise per quadrature referred to the measured mode (quanta; from the readout chain)",
+            (s, _) => s.Readout is null
+                ? throw new InputException("metrics: added_noise needs a readout section in the scenario")
+                : new Metric("added_noise", "added_noise", "readout added noise, input-referred (quanta)", p => ReadoutChains.For(p.Scenario).AddedNoise)),
         new("resolution_probability", MetricArgument.Delay,
             "probability that the readout's one-sided 95% upper bound on var_min is below zero-point, at the readout's last delay or :DELAY (exact χ², no sampling)",
             BindResolution),

@@ -1,6 +1,7 @@
 using System.Collections.Immutable;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
+using Decohere.Model.Readouts;
 using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
@@ -63,6 +64,9 @@ public sealed record ToleranceSettings
 /// <summary>One grid point: closed-form power and, where it ran, the Monte Carlo power with calibration error.</summary>
 public sealed record TolerancePoint(double AddedNoise, long Shots, double Power, double? PowerMc, double? PowerMcErr);
 
+/// <summary>The scenario's own readout at the delay: its added noise and shots, and the closed-form power they give.</summary>
+public sealed record ScenarioReadoutPower(IReadoutChain Chain, long Shots, double Power);
+
 /// <summary>The result of a tolerance analysis.</summary>
 public sealed record ToleranceResult(
     Scenario Scenario,
@@ -75,6 +79,7 @@ public sealed record ToleranceResult(
     ImmutableArray<TolerancePoint> Points,
     ImmutableArray<(long Shots, double? AddedNoise)> LargestAddedNoise,
     ImmutableArray<(double AddedNoise, long? Shots)> FewestShots,
+    ScenarioReadoutPower? ScenarioReadout,
     ImmutableArray<string> Notes)
 {
     /// <summary>Squeezing at the delay in dB.</summary>
@@ -125,7 +130,13 @@ public static class ToleranceAnalysis
         var fewest = settings.AddedNoise.Select(n => (n, ResolutionPower.FewestShots(v, n, threshold, settings.Confidence, settings.TargetPower))).ToImmutableArray();
         if (settings.CalibrationUncertainty is not null)
             notes.Add("the largest added noise and fewest shots are from the closed form (added noise known exactly); power_mc includes the calibration error");
+        ScenarioReadoutPower? own = null;
+        if (scenario.Readout is { } readout)
+        {
+            var chain = ReadoutChains.For(scenario);
+            own = new ScenarioReadoutPower(chain, readout.Shots, ResolutionPower.ClosedForm(v, chain.AddedNoise, readout.Shots, threshold, settings.Confidence));
+        }
         return new ToleranceResult(scenario, settings, track.Mode, track.Reference, v, threshold, past, points.MoveToImmutable(),
-            largest, fewest, notes.ToImmutable());
+            largest, fewest, own, notes.ToImmutable());
     }
 }

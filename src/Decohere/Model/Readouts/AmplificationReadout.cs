@@ -65,8 +65,8 @@ public sealed record AmplificationReadout(string Mode, int ModeIndex, string Cav
 
         var (chain, chainGain) = FriisCascade.Refer(readout.Elements, g);
         var contributions = ImmutableArray.CreateBuilder<NoiseContribution>(chain.Length + 1);
-        contributions.Add(new NoiseContribution("readout.coupling/readout.duration", string.Create(CultureInfo.InvariantCulture,
-            $"amplification pulse on cavity {tone.Cavity}: G/2π {readout.AmplificationCouplingHz / 1e3:G4} kHz for {readout.AmplificationDurationS * 1e6:G4} µs, gain {10 * Math.Log10(g):F2} dB"),
+        contributions.Add(new NoiseContribution("readout (pulse)", string.Create(CultureInfo.InvariantCulture,
+            $"blue-sideband pulse on {tone.Cavity}, G/2π {readout.AmplificationCouplingHz / 1e3:G4} kHz for {readout.AmplificationDurationS * 1e6:G4} µs"),
             g, added, added / g));
         contributions.AddRange(chain);
         return new AmplificationReadout(mech, modeIndex, tone.Cavity, g, added, contributions.Sum(c => c.InputReferred), g * chainGain,
