@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text.Json.Nodes;
 using Decohere.Analyses.Fitting;
+using Decohere.Tests.Analyses.Fitting;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
 using Decohere.Engine;
@@ -83,14 +84,7 @@ public class ReadoutAgreementTests
         for (int seed = 1; seed <= runs; seed++)
         {
             var scenario = template with { Readout = template.Readout! with { Shots = 4000, DelaysS = [0, 2e-3, 4e-3, 6e-3, 8e-3] }, Seed = seed };
-            var sampler = new ShotSampler(scenario, Dynamics.Solve(scenario));
-            string path = Path.Combine(TestPaths.NewTempDirectory(), "shots.parquet");
-            await using (var table = await ShotsTable.CreateAsync(path, sampler, Provenance.For(scenario)))
-            {
-                await sampler.RunAsync(table.WriteAsync);
-                await table.CommitAsync();
-            }
-            var data = await FitDataReader.ReadAsync(path, scenario);
+            var data = await SyntheticData.SampledShotsAsync(scenario);
             var fit = ScenarioFit.Run(scenario, data, ["modes.drum.bath.occupancy"], new FitSettings { Starts = 1 });
             var n = fit.Parameters.Single();
             // The drum's bath enters the pulse (γ(n_th + ½) during the amplification), so the fitted readout follows the fit.

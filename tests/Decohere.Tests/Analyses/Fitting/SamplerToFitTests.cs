@@ -26,14 +26,7 @@ public class SamplerToFitTests
         for (int seed = 1; seed <= runs; seed++)
         {
             var scenario = demo with { Readout = demo.Readout! with { Shots = 4000, DelaysS = [0, 2e-3, 4e-3, 6e-3, 8e-3] }, Seed = seed };
-            var sampler = new ShotSampler(scenario, Dynamics.Solve(scenario));
-            string path = Path.Combine(TestPaths.NewTempDirectory(), "shots.parquet");
-            await using (var table = await ShotsTable.CreateAsync(path, sampler, Provenance.For(scenario)))
-            {
-                await sampler.RunAsync(table.WriteAsync);
-                await table.CommitAsync();
-            }
-            var data = await FitDataReader.ReadAsync(path, scenario);
+            var data = await SyntheticData.SampledShotsAsync(scenario);
             var fit = ScenarioFit.Run(scenario, data, ["modes.drum.bath.temperature", "readout.added_noise"], new FitSettings { Starts = 1 });
             var t = fit.Parameters.Single(p => p.Name == "modes.drum.bath.temperature");
             estimates.Add(t.Value);

@@ -4,8 +4,11 @@ using System.Globalization;
 using System.Text;
 using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
+using Decohere.Core;
 using Decohere.Engine;
 using Decohere.IO;
+using Decohere.Reports;
+using Decohere.Sampling;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -18,6 +21,19 @@ namespace Decohere.Tests.Analyses.Fitting;
 /// </summary>
 internal static class SyntheticData
 {
+    /// <summary>Shots drawn by the project's own sampler, written to shots.parquet and read back as a lab's data file.</summary>
+    public static async Task<FitData> SampledShotsAsync(Scenario scenario)
+    {
+        var sampler = new ShotSampler(scenario, Dynamics.Solve(scenario));
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "shots.parquet");
+        await using (var table = await ShotsTable.CreateAsync(path, sampler, Provenance.For(scenario)))
+        {
+            await sampler.RunAsync(table.WriteAsync);
+            await table.CommitAsync();
+        }
+        return await FitDataReader.ReadAsync(path, scenario);
+    }
+
     /// <summary>A single mechanical mode (effective model, no tones) released for <paramref name="durationS"/> from a thermal state.</summary>
     public static Scenario SingleMode(double bathOccupancy, double linewidthHz, double addedNoise, double durationS, double initialOccupancy = 0.0,
         double frequencyHz = 4.1e6)
