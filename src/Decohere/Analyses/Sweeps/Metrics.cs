@@ -80,7 +80,7 @@ public static class Metrics
             {
                 string mode = ModeArgument(s, arg, "thermal_decoherence_rate");
                 return new Metric($"thermal_decoherence_rate:{mode}", $"thermal_decoherence_rate_per_s.{mode}", "γ·n_th",
-                    p => p.Scenario.ModeNamed(mode) is var m ? m.DecayRate * m.Bath.Occupancy : 0);
+                    p => p.Scenario.ModeNamed(mode) is var m ? Physics.ThermalDecoherenceRate(m.DecayRate, m.Bath.Occupancy) : 0);
             }),
         new("resolution_probability", MetricArgument.Delay,
             "probability that the readout's one-sided 95% upper bound on var_min is below zero-point, at the readout's last delay or :DELAY (exact χ², no sampling)",
