@@ -197,7 +197,7 @@ public static class Metrics
             {
                 var sc = p.Scenario;
                 double t = sc.StageStarts[sc.StageIndex(stage)] + delay;
-                if (t > sc.TotalDurationS * (1 + 1e-12))
+                if (p.Dynamics.IsPastEnd(t))
                     throw new InputException($"{name}: the readout at {Quantity.Format(delay, Dimension.Time)} after the start of '{stage}' is past the end of the last stage");
                 double varMin = p.Dynamics.StateAt(t).Moments(mode).VarMin;
                 var r = sc.Readout!;
