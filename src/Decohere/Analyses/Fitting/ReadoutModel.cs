@@ -63,9 +63,13 @@ public sealed class ReadoutModel
         int n = 2 * dynamics.ModeNames.Length;
         double start = dynamics.StageStarts[stage];
         var times = delays.Select(d => start + d).ToArray();
+        // The scenario must cover the data: past its end there is no model of the drives.
         for (int k = 0; k < times.Length; k++)
-            if (!(delays[k] >= 0) || dynamics.IsPastEnd(times[k]))
-                throw new InputException($"delay {delays[k]:G6} s lies outside the scenario: delays count from the start of stage '{readout.Stage}' and must end by its last stage ({dynamics.EndS - start:G6} s)");
+        {
+            if (!(delays[k] >= 0)) throw new InputException($"data delay {delays[k]:G6} s: delays count from the start of stage '{readout.Stage}' and must be >= 0");
+            if (dynamics.IsPastEnd(times[k]))
+                throw new InputException($"data delay {delays[k]:G6} s runs past the end of the scenario ({dynamics.EndS - start:G6} s after the start of stage '{readout.Stage}'); lengthen its last stage");
+        }
         var result = new ReadoutPrediction[delays.Count];
         dynamics.Walk(times, (k, v, mean) =>
         {
