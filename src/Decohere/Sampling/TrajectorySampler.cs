@@ -1,6 +1,5 @@
 using System.Collections.Immutable;
 using Decohere.Engine;
-using Decohere.Numerics;
 
 namespace Decohere.Sampling;
 

@@ -2,7 +2,6 @@ using Decohere.Analyses.Calibration;
 using Decohere.Core;
 using Decohere.Engine;
 using Decohere.IO;
-using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -74,7 +73,7 @@ public sealed class ReadoutModel
         dynamics.Walk(times, (k, v, mean) =>
         {
             int a = 2 * mode, b = a + 1;
-            double vx = v[a * n + a], vp = v[b * n + b], c = v[a * n + b];
+            double vx = v[a * n + a], vp = v[b * n + b], c = 0.5 * (v[a * n + b] + v[b * n + a]);
             double occupancy = Physics.ModeOccupancy(vx, vp, mean[a], mean[b]);
             result[k] = new ReadoutPrediction(vx + readout.AddedNoise, vp + readout.AddedNoise, c, mean[a], mean[b], occupancy);
         });
