@@ -158,8 +158,8 @@ public sealed class Dynamics
 
     /// <summary>
     /// Visits the exact state at each of <paramref name="times"/> (any order), in increasing time. The state is carried
-    /// forward from one time to the next with exact steps (Φ, Q) cached per (stage, gap), so evenly spaced times cost one
-    /// discretisation per stage; a time in a later stage starts from that stage's exact start state, and a stage end gives
+    /// forward from one time to the next with exact steps (Φ, Q) cached per (stage, gap), so evenly spaced times share one
+    /// discretisation; a time in a later stage starts from that stage's exact start state, and a stage end gives
     /// the exact boundary state, so nothing drifts across stages.
     /// </summary>
     /// <exception cref="ArgumentOutOfRangeException">A time is negative, or past the end without <see cref="ContinuesPastEnd"/>.</exception>
