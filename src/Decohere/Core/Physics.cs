@@ -1,6 +1,9 @@
 namespace Decohere.Core;
 
-/// <summary>Exact SI constants and the Bose–Einstein relations between bath temperature and occupancy.</summary>
+/// <summary>
+/// Exact SI constants, the Bose–Einstein relations between bath temperature and occupancy, and the quantities derived
+/// from a mode's moments in the project's conventions (zero-point variance ½, x = (a + a†)/√2): each defined here once.
+/// </summary>
 public static class Physics
 {
     /// <summary>Planck constant h in J s, exact (CODATA 2018; SI 2019).</summary>
@@ -18,7 +21,7 @@ public static class Physics
         if (temperatureK <= 0) return 0;
         double x = Planck * frequencyHz / (Boltzmann * temperatureK);
         // expm1 keeps the high-temperature limit k_B T / h f accurate.
-        return 1.0 / Math.Expm1Safe(x);
+        return 1.0 / Expm1(x);
     }
 
     /// <summary>
@@ -32,18 +35,34 @@ public static class Physics
     public static double Temperature(double frequencyHz, double occupancy)
     {
         if (occupancy <= 0) return 0;
-        return Planck * frequencyHz / (Boltzmann * Math.Log1P(1.0 / occupancy));
+        return Planck * frequencyHz / (Boltzmann * Log1P(1.0 / occupancy));
     }
 
     /// <summary>Angular rate (s⁻¹) of an ordinary frequency (Hz): 2π f.</summary>
-    public static double Angular(double hertz) => 2 * System.Math.PI * hertz;
+    public static double Angular(double hertz) => 2 * Math.PI * hertz;
 
-    private static class Math
+    /// <summary>Squeezing against zero-point, S = 10·log10(½ / V_min) dB (S &gt; 0 below zero-point); +∞ when V_min ≤ 0.</summary>
+    public static double SqueezingDb(double varMin) => varMin > 0 ? 10 * Math.Log10(ZeroPointVariance / varMin) : double.PositiveInfinity;
+
+    /// <summary>Inverse of <see cref="SqueezingDb"/>: the variance ½·10^(−S/10) that is S dB below zero-point.</summary>
+    public static double VarianceAtSqueezing(double db) => ZeroPointVariance * Math.Pow(10, -db / 10);
+
+    /// <summary>Occupancy of a mode from its moments: n = (V_xx + V_pp)/2 − ½ + (⟨x⟩² + ⟨p⟩²)/2.</summary>
+    public static double ModeOccupancy(double varX, double varP, double meanX, double meanP) =>
+        0.5 * (varX + varP) - ZeroPointVariance + 0.5 * (meanX * meanX + meanP * meanP);
+
+    /// <summary>Eigenvalues (V_min, V_max) of the symmetric 2×2 block [[V_xx, V_xp], [V_xp, V_pp]].</summary>
+    public static (double Min, double Max) PrincipalVariances(double varX, double varP, double covXP)
     {
-        public static double Expm1Safe(double x) =>
-            System.Math.Abs(x) < 1e-5 ? x + x * x / 2 + x * x * x / 6 : System.Math.Exp(x) - 1;
-
-        public static double Log1P(double x) =>
-            System.Math.Abs(x) < 1e-5 ? x - x * x / 2 + x * x * x / 3 : System.Math.Log(1 + x);
+        double mid = 0.5 * (varX + varP);
+        double radius = Math.Sqrt(0.25 * (varX - varP) * (varX - varP) + covXP * covXP);
+        return (mid - radius, mid + radius);
     }
+
+    /// <summary>Thermal decoherence rate Γ_th = γ·n_th (s⁻¹) of a mode of energy decay rate γ in a bath of occupancy n_th.</summary>
+    public static double ThermalDecoherenceRate(double decayRate, double bathOccupancy) => decayRate * bathOccupancy;
+
+    private static double Expm1(double x) => Math.Abs(x) < 1e-5 ? x + x * x / 2 + x * x * x / 6 : Math.Exp(x) - 1;
+
+    private static double Log1P(double x) => Math.Abs(x) < 1e-5 ? x - x * x / 2 + x * x * x / 3 : Math.Log(1 + x);
 }

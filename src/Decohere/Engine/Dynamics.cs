@@ -6,42 +6,90 @@ using Decohere.Scenarios;
 
 namespace Decohere.Engine;
 
+/// <summary>Receives the state at one of the times of a walk: its index in the list given, covariance (row-major n×n) and mean.</summary>
+/// <remarks>The spans are the walk's working buffers, valid only during the call: copy what you keep.</remarks>
+public delegate void StateVisitor(int index, ReadOnlySpan<double> covariance, ReadOnlySpan<double> mean);
+
+/// <summary>The output grid: t = 0, every multiple k·step strictly inside a stage, and every stage end.</summary>
+/// <param name="Times">Times (s), strictly increasing.</param>
+/// <param name="Stages">Stage of each time (a stage end belongs to the stage that ends there; t = 0 to the first).</param>
+/// <param name="StepS">The output step (s).</param>
+public sealed record TimeGrid(ImmutableArray<double> Times, ImmutableArray<int> Stages, double StepS);
+
+/// <summary>The exact steps of a sample path through increasing times.</summary>
+/// <param name="Steps">The distinct discretisations (Φ, Q), one per (stage, gap).</param>
+/// <param name="StepOf">StepOf[k] carries the path from time k to time k + 1.</param>
+public sealed record PathSteps(ImmutableArray<Discretization> Steps, ImmutableArray<int> StepOf);
+
 /// <summary>
-/// The solved dynamics of a scenario: per stage its linear model, stability and start state, so that the state at
-/// any time follows exactly from one Van Loan step (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
+/// The solved dynamics of a scenario and its one propagator: per stage its linear model, stability and start state, the
+/// exact state at any time, the states at many times carried forward with cached exact steps, and the output grid.
+/// Within a stage A and D are constant, so every step is exact (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
 /// </summary>
 public sealed class Dynamics
 {
+    /// <summary>
+    /// Relative tolerance at stage boundaries: a time within <c>BoundaryTolerance·t_b</c> of a boundary t_b is the boundary.
+    /// Far above the rounding of sums of durations (~1e-16), far below any physical time scale of a stage.
+    /// </summary>
+    public const double BoundaryTolerance = 1e-12;
+
+    /// <summary>Name of the stage appended when the dynamics continue past the end of the scenario.</summary>
+    public const string ExtensionStageName = "(after the last stage, undriven)";
+
+    // Two gaps closer than this (relative to the time reached) differ only by the rounding of the times themselves
+    // (each time carries at most an ulp, 2ε·t), so they share one discretisation. 8ε with ε = 2⁻⁵².
+    private const double GapRounding = 8 * 2.220446049250313e-16;
+
     private readonly GaussianState?[] _steady;
     private readonly LyapunovSolution?[] _steadySolution;
 
     /// <summary>The scenario solved.</summary>
     public Scenario Scenario { get; }
 
+    /// <summary>
+    /// The stages the engine runs: the scenario's, followed, when <see cref="ContinuesPastEnd"/>, by the last stage with its
+    /// tones off and no end (its baths and detunings kept: the drives are switched off after the scenario).
+    /// </summary>
+    public ImmutableArray<Stage> Stages { get; }
+
+    /// <summary>True when times past the scenario's end are answered with the undriven extension stage.</summary>
+    public bool ContinuesPastEnd { get; }
+
     /// <summary>Modes of the state vector, in order.</summary>
     public ImmutableArray<string> ModeNames { get; }
 
-    /// <summary>Linear model of each stage.</summary>
+    /// <summary>Linear model of each of <see cref="Stages"/>.</summary>
     public ImmutableArray<LinearModel> Models { get; }
 
-    /// <summary>Eigenvalue stability of each stage.</summary>
+    /// <summary>Eigenvalue stability of each of <see cref="Stages"/>.</summary>
     public ImmutableArray<Stability> Stabilities { get; }
 
-    /// <summary>Start time of each stage (s).</summary>
+    /// <summary>Start time of each of <see cref="Stages"/> (s).</summary>
     public ImmutableArray<double> StageStarts { get; }
 
-    /// <summary>State at the start of each stage, plus the final state at index Stages.Length.</summary>
+    /// <summary>End of the scenario's last stage (s).</summary>
+    public double EndS { get; }
+
+    /// <summary>State at the start of each of the scenario's stages, plus the final state at index Scenario.Stages.Length.</summary>
     public ImmutableArray<GaussianState> Boundaries { get; }
 
-    private Dynamics(Scenario scenario)
+    private Dynamics(Scenario scenario, bool continuePastEnd)
     {
         Scenario = scenario;
+        ContinuesPastEnd = continuePastEnd;
+        var last = scenario.Stages[^1];
+        Stages = continuePastEnd
+            ? scenario.Stages.Add(last with { Name = ExtensionStageName, Tones = [], DurationS = double.PositiveInfinity })
+            : scenario.Stages;
         ModeNames = [.. ModelBuilder.StateModes(scenario).Select(m => m.Name)];
-        Models = [.. scenario.Stages.Select(s => ModelBuilder.Build(scenario, s))];
+        Models = [.. Stages.Select(s => ModelBuilder.Build(scenario, s))];
         Stabilities = [.. Models.Select(m => Stability.Of(m.Drift))];
         StageStarts = scenario.StageStarts;
-        _steady = new GaussianState?[scenario.Stages.Length];
-        _steadySolution = new LyapunovSolution?[scenario.Stages.Length];
+        EndS = StageStarts[^1] + last.DurationS;
+        if (continuePastEnd) StageStarts = StageStarts.Add(EndS);
+        _steady = new GaussianState?[Stages.Length];
+        _steadySolution = new LyapunovSolution?[Stages.Length];
         Boundaries = [];
         var initial = InitialStates.Build(scenario, this);
         var boundaries = ImmutableArray.CreateBuilder<GaussianState>(scenario.Stages.Length + 1);
@@ -52,8 +100,19 @@ public sealed class Dynamics
     }
 
     /// <summary>Builds the models, the initial state and the state at every stage boundary.</summary>
+    /// <param name="scenario">The scenario.</param>
+    /// <param name="continuePastEnd">Answer times past the scenario's end with its last stage, tones off (see <see cref="Stages"/>).</param>
     /// <exception cref="UnstableDynamicsException">An <c>initial: steady</c> mode needs a stable first stage.</exception>
-    public static Dynamics Solve(Scenario scenario) => new(scenario);
+    public static Dynamics Solve(Scenario scenario, bool continuePastEnd = false) => new(scenario, continuePastEnd);
+
+    /// <summary>True when t lies after the boundary t_b by more than the <see cref="BoundaryTolerance"/>.</summary>
+    public static bool IsAfter(double t, double boundary) => t > boundary + BoundaryTolerance * Math.Abs(boundary);
+
+    /// <summary>True when t lies past the end of the scenario's last stage (beyond the boundary tolerance).</summary>
+    public bool IsPastEnd(double t) => IsAfter(t, EndS);
+
+    /// <summary>End of stage i (s); +∞ for the undriven extension.</summary>
+    public double StageEnd(int stage) => StageStarts[stage] + Stages[stage].DurationS;
 
     /// <summary>Propagates a state through <paramref name="duration"/> seconds of stage <paramref name="stage"/>, exactly.</summary>
     public GaussianState Propagate(GaussianState state, int stage, double duration)
@@ -66,19 +125,143 @@ public sealed class Dynamics
     }
 
     /// <summary>The stage running at time t (a boundary time belongs to the stage that ends there; t = 0 to the first).</summary>
-    public int StageAt(double t)
+    /// <exception cref="ArgumentOutOfRangeException">t is negative or NaN, or past the end without <see cref="ContinuesPastEnd"/>.</exception>
+    public int StageAt(double t) => StageAt(t, 0);
+
+    private int StageAt(double t, int from)
     {
-        for (int i = 0; i < StageStarts.Length; i++)
-            if (t <= StageStarts[i] + Scenario.Stages[i].DurationS * (1 + 1e-12)) return i;
-        return StageStarts.Length - 1;
+        if (!(t >= 0)) throw new ArgumentOutOfRangeException(nameof(t), t, "time must be ≥ 0 (s from the start of the first stage)");
+        if (IsPastEnd(t) && !ContinuesPastEnd)
+            throw new ArgumentOutOfRangeException(nameof(t), t,
+                $"time {t:G6} s is past the end of the scenario ({EndS:G6} s); solve with continuePastEnd to continue with the drives off");
+        int i = from;
+        while (i + 1 < Stages.Length && IsAfter(t, StageEnd(i))) i++;
+        return i;
     }
 
-    /// <summary>The exact state at time t (s) from the start of the first stage.</summary>
-    public GaussianState StateAt(double t)
+    /// <summary>The exact state at time t (s) from the start of the first stage: one exact step from the start of its stage.</summary>
+    /// <exception cref="ArgumentOutOfRangeException">t is negative, or past the end without <see cref="ContinuesPastEnd"/>.</exception>
+    public GaussianState StateAt(double t) => StatesAt([t])[0];
+
+    /// <summary>The exact states at the given times (any order; results in the order given). See <see cref="Walk"/>.</summary>
+    public GaussianState[] StatesAt(IReadOnlyList<double> times)
     {
-        int i = StageAt(t);
-        double dt = Math.Clamp(t - StageStarts[i], 0, Scenario.Stages[i].DurationS);
-        return dt == 0 ? Boundaries[i] : Propagate(Boundaries[i], i, dt);
+        var result = new GaussianState[times.Count];
+        int n = 2 * ModeNames.Length;
+        Walk(times, (k, v, mean) =>
+        {
+            result[k] = new GaussianState(Vector<double>.Build.DenseOfArray(mean.ToArray()),
+                Matrix<double>.Build.DenseOfRowMajor(n, n, v.ToArray()), ModeNames);
+        });
+        return result;
+    }
+
+    /// <summary>
+    /// Visits the exact state at each of <paramref name="times"/> (any order), in increasing time. The state is carried
+    /// forward from one time to the next with exact steps (Φ, Q) cached per (stage, gap), so evenly spaced times share one
+    /// discretisation; a time in a later stage starts from that stage's exact start state, and a stage end gives
+    /// the exact boundary state, so nothing drifts across stages.
+    /// </summary>
+    /// <exception cref="ArgumentOutOfRangeException">A time is negative, or past the end without <see cref="ContinuesPastEnd"/>.</exception>
+    public void Walk(IReadOnlyList<double> times, StateVisitor visit)
+    {
+        ArgumentNullException.ThrowIfNull(times);
+        ArgumentNullException.ThrowIfNull(visit);
+        var order = Enumerable.Range(0, times.Count).OrderBy(k => times[k]).ToArray();
+        int n = 2 * ModeNames.Length;
+        var v = new double[n * n];
+        var mean = new double[n];
+        var cache = new StepCache(this);
+        var steppers = new List<CovarianceStepper?>();
+        int stage = -1;
+        // The state's time as an unevaluated sum hi + lo, so that rounding does not accumulate over many shared steps.
+        double hi = 0, lo = 0;
+        foreach (int k in order)
+        {
+            double t = times[k];
+            int i = StageAt(t, Math.Max(stage, 0));
+            if (i < Boundaries.Length - 1 && !IsAfter(StageEnd(i), t))
+            {
+                Load(Boundaries[i + 1], v, mean);
+                (stage, hi, lo) = (i + 1, StageEnd(i), 0);
+                // The end state of stage i is the start state of stage i + 1; a later time in stage i cannot follow.
+                if (i + 1 == Stages.Length) stage = i;
+            }
+            else
+            {
+                if (i != stage)
+                {
+                    Load(Boundaries[i], v, mean);
+                    (stage, hi, lo) = (i, StageStarts[i], 0);
+                }
+                double gap = (t - hi) - lo;
+                if (gap > 0)
+                {
+                    int id = cache.Find(i, gap, t, out double used);
+                    while (steppers.Count <= id) steppers.Add(null);
+                    (steppers[id] ??= new CovarianceStepper(cache.Steps[id])).Step(v, mean);
+                    Advance(ref hi, ref lo, used);
+                }
+            }
+            visit(k, v, mean);
+        }
+    }
+
+    /// <summary>
+    /// The exact steps of a sample path through strictly increasing <paramref name="times"/>: one (Φ, Q) per (stage, gap),
+    /// shared between equal gaps. A path cannot restart at a stage's start state, so every stage boundary the path
+    /// crosses must be one of the times (the <see cref="OutputGrid"/> has them all).
+    /// </summary>
+    /// <exception cref="ArgumentException">Times are not strictly increasing, or a gap spans a stage boundary.</exception>
+    public PathSteps PathStepsThrough(IReadOnlyList<double> times)
+    {
+        ArgumentNullException.ThrowIfNull(times);
+        var cache = new StepCache(this);
+        var stepOf = ImmutableArray.CreateBuilder<int>(Math.Max(times.Count - 1, 0));
+        // As in Walk, the path's time is kept as hi + lo and each gap measured from it, so shared steps never drift.
+        double hi = times.Count > 0 ? times[0] : 0, lo = 0;
+        for (int k = 0; k + 1 < times.Count; k++)
+        {
+            double from = times[k], to = times[k + 1];
+            if (!(to > from)) throw new ArgumentException($"times must increase strictly: times[{k + 1}] = {to:R} after {from:R}", nameof(times));
+            int i = StageAt(to, 0);
+            if (IsAfter(StageStarts[i], from))
+                throw new ArgumentException($"the gap from {from:R} s to {to:R} s spans the start of stage '{Stages[i].Name}' ({StageStarts[i]:R} s); include it in the times", nameof(times));
+            stepOf.Add(cache.Find(i, Math.Max((to - hi) - lo, 0), to, out double used));
+            Advance(ref hi, ref lo, used);
+            if (!IsAfter(StageEnd(i), to)) (hi, lo) = (to, 0);
+        }
+        return new PathSteps([.. cache.Steps], stepOf.MoveToImmutable());
+    }
+
+    /// <summary>
+    /// The output grid shared by the covariance table and the trajectories: t = 0, every k·step (k an integer, so no step
+    /// error accumulates in the times) strictly inside a stage, and every stage end, exactly as the stage boundaries are.
+    /// </summary>
+    /// <param name="stepS">Grid step (s); null takes the scenario's <c>output.step</c>.</param>
+    /// <exception cref="ArgumentOutOfRangeException">The step is not finite and positive.</exception>
+    public TimeGrid OutputGrid(double? stepS = null)
+    {
+        double step = stepS ?? Scenario.OutputStepS;
+        if (!(step > 0) || !double.IsFinite(step)) throw new ArgumentOutOfRangeException(nameof(stepS), step, "the output step must be finite and > 0 (s)");
+        var times = ImmutableArray.CreateBuilder<double>();
+        var stages = ImmutableArray.CreateBuilder<int>();
+        times.Add(0);
+        stages.Add(0);
+        for (int i = 0; i < Scenario.Stages.Length; i++)
+        {
+            double t0 = StageStarts[i], t1 = StageEnd(i);
+            long k = (long)Math.Floor(t0 / step);
+            while (!IsAfter(k * step, t0)) k++;
+            for (; IsAfter(t1, k * step); k++)
+            {
+                times.Add(k * step);
+                stages.Add(i);
+            }
+            times.Add(t1);
+            stages.Add(i);
+        }
+        return new TimeGrid(times.ToImmutable(), stages.ToImmutable(), step);
     }
 
     /// <summary>Whether stage i has a steady state.</summary>
@@ -93,7 +276,7 @@ public sealed class Dynamics
         var s = Stabilities[stage];
         if (!s.IsStable)
             throw new UnstableDynamicsException(s.GrowthRate,
-                $"stage '{Scenario.Stages[stage].Name}' has no steady state: it grows at {s.GrowthRate:G4} s⁻¹ (max Re λ of the drift)");
+                $"stage '{Stages[stage].Name}' has no steady state: it grows at {s.GrowthRate:G4} s⁻¹ (max Re λ of the drift)");
         var solution = Lyapunov.Solve(model.Drift, model.Diffusion);
         _steadySolution[stage] = solution;
         var state = new GaussianState(Vector<double>.Build.Dense(model.Dimension), solution.Covariance, ModeNames);
@@ -110,4 +293,49 @@ public sealed class Dynamics
 
     /// <summary>Relative residual ‖AV + VAᵀ + D‖ of the steady state of stage i.</summary>
     public double SteadyResidual(int stage) => SteadySolution(stage).RelativeResidual;
+
+    /// <summary>hi + lo += step, with the rounding of the sum kept in lo (Knuth's TwoSum, D. E. Knuth, TAOCP vol. 2, sec. 4.2.2).</summary>
+    private static void Advance(ref double hi, ref double lo, double step)
+    {
+        double s = hi + step, b = s - hi;
+        double e = (hi - (s - b)) + (step - b);
+        (hi, lo) = (s, lo + e);
+    }
+
+    private static void Load(GaussianState state, double[] v, double[] mean)
+    {
+        int n = mean.Length;
+        for (int i = 0; i < n; i++)
+        {
+            mean[i] = state.Mean[i];
+            for (int j = 0; j < n; j++) v[i * n + j] = state.Covariance[i, j];
+        }
+    }
+
+    /// <summary>Exact discretisations per (stage, gap) for one walk; gaps equal up to the rounding of the times share one.</summary>
+    private sealed class StepCache(Dynamics owner)
+    {
+        private readonly Dictionary<int, List<(double Gap, int Id)>> _byStage = [];
+
+        public List<Discretization> Steps { get; } = [];
+
+        public int Find(int stage, double gap, double time, out double used)
+        {
+            if (!_byStage.TryGetValue(stage, out var list)) _byStage[stage] = list = [];
+            // Most recent first: evenly spaced times hit on the first comparison.
+            for (int j = list.Count - 1; j >= 0; j--)
+            {
+                if (Math.Abs(list[j].Gap - gap) <= GapRounding * Math.Abs(time))
+                {
+                    used = list[j].Gap;
+                    return list[j].Id;
+                }
+            }
+            var model = owner.Models[stage];
+            Steps.Add(VanLoan.Discretize(model.Drift, model.Diffusion, gap));
+            list.Add((gap, Steps.Count - 1));
+            used = gap;
+            return Steps.Count - 1;
+        }
+    }
 }

@@ -1,5 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 using System.Collections.Immutable;
+using Decohere.Core;
 
 namespace Decohere.Engine;
 
@@ -44,16 +45,13 @@ public readonly record struct ModeMoments(
     /// <summary>Derives the eigen-decomposition, occupancy and squeezing of a 2×2 block and mean.</summary>
     public static ModeMoments From(double varX, double varP, double covXP, double meanX, double meanP)
     {
-        double mid = 0.5 * (varX + varP);
-        double radius = Math.Sqrt(0.25 * (varX - varP) * (varX - varP) + covXP * covXP);
-        double varMin = mid - radius, varMax = mid + radius;
+        var (varMin, varMax) = Physics.PrincipalVariances(varX, varP, covXP);
         // The major axis is at ½·atan2(2c, a − b); the minor one is a quarter turn from it.
         double angle = 0.5 * Math.Atan2(2 * covXP, varX - varP) + Math.PI / 2;
         while (angle > Math.PI / 2) angle -= Math.PI;
         while (angle <= -Math.PI / 2) angle += Math.PI;
-        if (radius == 0) angle = 0;
-        double occupancy = mid - 0.5 + 0.5 * (meanX * meanX + meanP * meanP);
-        double db = varMin > 0 ? 10 * Math.Log10(0.5 / varMin) : double.PositiveInfinity;
-        return new ModeMoments(varX, varP, covXP, meanX, meanP, varMin, varMax, angle, occupancy, db);
+        if (varX == varP && covXP == 0) angle = 0;
+        return new ModeMoments(varX, varP, covXP, meanX, meanP, varMin, varMax, angle,
+            Physics.ModeOccupancy(varX, varP, meanX, meanP), Physics.SqueezingDb(varMin));
     }
 }

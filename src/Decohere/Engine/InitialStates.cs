@@ -1,5 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 using Decohere.Scenarios;
+using Decohere.Core;
 
 namespace Decohere.Engine;
 
@@ -32,7 +33,7 @@ internal static class InitialStates
                 case InitialState.Squeezed s:
                 {
                     // Pure squeezed vacuum: V = R(θ) diag(½·10^(−S/10), ½·10^(S/10)) R(θ)ᵀ.
-                    double small = 0.5 * Math.Pow(10, -s.SqueezingDb / 10), large = 0.25 / small;
+                    double small = Physics.VarianceAtSqueezing(s.SqueezingDb), large = 0.25 / small;
                     double c = Math.Cos(s.AngleRad), si = Math.Sin(s.AngleRad);
                     SetBlock(v, j, small * c * c + large * si * si, small * si * si + large * c * c, (small - large) * c * si);
                     break;

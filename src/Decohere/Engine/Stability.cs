@@ -1,5 +1,6 @@
 using MathNet.Numerics.LinearAlgebra;
 using System.Numerics;
+using Decohere.Numerics;
 
 namespace Decohere.Engine;
 
@@ -7,10 +8,14 @@ namespace Decohere.Engine;
 /// Stability of a stage from the eigenvalues of its drift A: the stage relaxes to a steady state when every
 /// Re λ &lt; 0 (slowest decay rate −max Re λ); otherwise it amplifies at growth rate max Re λ.
 /// </summary>
-public sealed record Stability(double MaxRealPart, double MinRealPart, double MaxImaginaryPart)
+/// <param name="MaxRealPart">max Re λ (s⁻¹).</param>
+/// <param name="MinRealPart">min Re λ (s⁻¹).</param>
+/// <param name="MaxImaginaryPart">max |Im λ| (s⁻¹).</param>
+/// <param name="DriftNorm">‖A‖_F (s⁻¹), the scale of the eigenvalues' rounding.</param>
+public sealed record Stability(double MaxRealPart, double MinRealPart, double MaxImaginaryPart, double DriftNorm)
 {
-    /// <summary>True when every eigenvalue has negative real part (up to rounding relative to the fastest rate).</summary>
-    public bool IsStable => MaxRealPart < -1e-13 * Math.Max(Math.Abs(MinRealPart), Math.Abs(MaxImaginaryPart));
+    /// <summary>True when every eigenvalue decays, by the criterion the steady-state solver applies (<see cref="Lyapunov.Decays"/>).</summary>
+    public bool IsStable => Lyapunov.Decays(MaxRealPart, DriftNorm);
 
     /// <summary>Slowest decay rate (s⁻¹) of a stable stage.</summary>
     public double SlowestDecayRate => -MaxRealPart;
@@ -21,10 +26,10 @@ public sealed record Stability(double MaxRealPart, double MinRealPart, double Ma
     /// <summary>Growth rate (s⁻¹) of an unstable stage; zero or negative when stable.</summary>
     public double GrowthRate => MaxRealPart;
 
-    /// <summary>Eigenvalue analysis of a drift matrix.</summary>
+    /// <summary>Eigenvalue analysis of a drift matrix (the general eigensolver, as in <see cref="Lyapunov.Solve"/>).</summary>
     public static Stability Of(Matrix<double> drift)
     {
-        Complex[] eigen = [.. drift.Evd().EigenValues];
-        return new Stability(eigen.Max(e => e.Real), eigen.Min(e => e.Real), eigen.Max(e => Math.Abs(e.Imaginary)));
+        Complex[] eigen = [.. drift.Evd(Symmetricity.Asymmetric).EigenValues];
+        return new Stability(eigen.Max(e => e.Real), eigen.Min(e => e.Real), eigen.Max(e => Math.Abs(e.Imaginary)), drift.FrobeniusNorm());
     }
 }

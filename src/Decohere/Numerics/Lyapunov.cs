@@ -47,8 +47,11 @@ public static class Lyapunov
     /// <summary>Largest n for which Automatic uses the Kronecker form (n(n+1)/2 = 465 unknowns).</summary>
     public const int KroneckerMaxDimension = 30;
 
-    // Re λ > −StabilityTolerance·‖A‖_F counts as not decaying: below that the decay is rounding noise.
-    private const double StabilityTolerance = 1e-13;
+    /// <summary>
+    /// Re λ ≥ −StabilityTolerance·‖A‖_F counts as not decaying: a backward-stable eigensolver returns the eigenvalues of
+    /// A + E with ‖E‖ ~ ε‖A‖, so a decay slower than this is rounding noise.
+    /// </summary>
+    public const double StabilityTolerance = 1e-13;
 
     // Solutions with a worse relative residual trigger the fallback; the contract is ≤ 1e-10.
     private const double AcceptableResidual = 1e-12;
@@ -61,6 +64,13 @@ public static class Lyapunov
 
     private const int MaxRefinementSteps = 2;
     private const int MaxDoublings = 128;
+
+    /// <summary>
+    /// The one stability criterion of the project: every eigenvalue of the drift decays, max Re λ &lt; −<see cref="StabilityTolerance"/>·‖A‖_F.
+    /// </summary>
+    /// <param name="maxRealPart">max Re λ(A), s⁻¹.</param>
+    /// <param name="driftNorm">‖A‖_F, s⁻¹.</param>
+    public static bool Decays(double maxRealPart, double driftNorm) => maxRealPart < -StabilityTolerance * driftNorm;
 
     /// <summary>
     /// V with A V + V Aᵀ + D = 0 (Kronecker form for small n; else diagonalisation with Smith doubling, R. A. Smith, SIAM J. Appl. Math. 16, 198 (1968), as fallback).
@@ -106,7 +116,7 @@ public static class Lyapunov
             minAbsRe = Math.Min(minAbsRe, Math.Abs(lambda.Real));
         }
 
-        if (maxRe > -StabilityTolerance * normA)
+        if (!Decays(maxRe, normA))
         {
             throw new UnstableDynamicsException(
                 maxRe,

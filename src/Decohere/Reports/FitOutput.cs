@@ -132,7 +132,7 @@ public static class FitOutput
                 double cov = o.CovIQ ?? 0;
                 // Occupancy implied by the data: mean quadrature variance minus the fitted added noise and zero-point ½ (plus the mean's energy);
                 // its error from the χ² variances of s² (2σ⁴/ν) and their covariance (2c²/ν).
-                Opt(0.5 * (o.VarI + o.VarQ) - 0.5 - addedNoise + 0.5 * (o.MeanI * o.MeanI + o.MeanQ * o.MeanQ));
+                Opt(Physics.ModeOccupancy(o.VarI - addedNoise, o.VarQ - addedNoise, o.MeanI, o.MeanQ));
                 Opt(Math.Sqrt((o.VarI * o.VarI + o.VarQ * o.VarQ + 2 * cov * cov) / (2.0 * (o.Shots - 1))));
             }
             else

@@ -23,7 +23,7 @@ public static class LifetimeOutput
         Directory.CreateDirectory(directory);
         string json = Path.Combine(directory, "lifetime.json"), table = Path.Combine(directory, "lifetime.parquet"), png = Path.Combine(directory, "lifetime.png");
         double[] delays = [.. report.DelaysS], varMin = [.. report.VarMin];
-        double[] db = varMin.Select(v => 10 * Math.Log10(0.5 / v)).ToArray();
+        double[] db = varMin.Select(Physics.SqueezingDb).ToArray();
         double?[] power = [.. report.Power];
         var keys = new Dictionary<string, string>(metadata.ToKeyValues())
         {
@@ -60,7 +60,7 @@ public static class LifetimeOutput
         root["approximation"] = "single-mode law t* = (1/γ)·ln[(n_th + ½ − var_min(0)) / (n_th + ½ − threshold_var)]";
         root["decay_rate_per_s"] = c.DecayRate;
         root["bath_occupancy"] = c.BathOccupancy;
-        root["thermal_decoherence_rate_per_s"] = c.DecayRate * c.BathOccupancy;
+        root["thermal_decoherence_rate_per_s"] = Physics.ThermalDecoherenceRate(c.DecayRate, c.BathOccupancy);
         root["ratio"] = Nullable(c.Ratio);
         root["observable_lifetime_s"] = Nullable(c.ObservableLifetimeS);
         root["observable_status"] = Status(c.ObservableStatus);

@@ -80,11 +80,8 @@ public sealed class ShotSampler
         var readout = scenario.Readout!;
         ShotsPerDelay = shotsPerDelay ?? readout.Shots;
         double start = Dynamics.StageStarts[scenario.StageIndex(readout.Stage)];
-        Delays = [.. readout.DelaysS.Select((d, k) =>
-        {
-            var state = Dynamics.StateAt(start + d);
-            return new ReadoutDelay(k, d, start + d, state, state.Moments(Chain.ModeIndex));
-        })];
+        var states = Dynamics.StatesAt([.. readout.DelaysS.Select(d => start + d)]);
+        Delays = [.. readout.DelaysS.Select((d, k) => new ReadoutDelay(k, d, start + d, states[k], states[k].Moments(Chain.ModeIndex)))];
     }
 
     /// <summary>

@@ -1,6 +1,5 @@
 using System.Collections.Immutable;
 using Decohere.Engine;
-using Decohere.Numerics;
 
 namespace Decohere.Sampling;
 
@@ -59,55 +58,18 @@ public sealed class TrajectorySampler
         _settings = settings ?? SamplerSettings.Default;
         Dynamics = dynamics;
         Components = [.. components];
-        var scenario = dynamics.Scenario;
         _n = dynamics.Boundaries[0].Covariance.RowCount;
-        double step = outputStepS ?? scenario.OutputStepS;
-        var times = new List<double> { 0 };
-        var stepOf = new List<int>();
-        var phi = new List<double[]>();
-        var factor = new List<double[]>();
-        for (int i = 0; i < scenario.Stages.Length; i++)
-        {
-            var model = dynamics.Models[i];
-            var cache = new Dictionary<long, int>();
-            int StepFor(double dt)
-            {
-                long key = BitConverter.DoubleToInt64Bits(dt);
-                if (!cache.TryGetValue(key, out int id))
-                {
-                    var d = VanLoan.Discretize(model.Drift, model.Diffusion, dt);
-                    phi.Add(d.Phi.ToRowMajorArray());
-                    factor.Add(GaussianFactor.Of(d.Q));
-                    cache[key] = id = phi.Count - 1;
-                }
-                return id;
-            }
-            // The same grid as the covariance table (Evolution.Run), so trajectories and covariances line up row by row.
-            double t0 = dynamics.StageStarts[i], t1 = t0 + scenario.Stages[i].DurationS;
-            long k = (long)Math.Floor(t0 / step + 1e-9) + 1;
-            double previous = t0;
-            for (; k * step < t1 - 1e-9 * step; k++)
-            {
-                double t = k * step;
-                double dt = t - previous;
-                stepOf.Add(StepFor(Math.Abs(dt - step) <= 1e-9 * step ? step : dt));
-                times.Add(t);
-                previous = t;
-            }
-            if (t1 - previous > 0)
-            {
-                stepOf.Add(StepFor(t1 - previous));
-                times.Add(t1);
-            }
-        }
-        Times = [.. times];
-        _stepOf = [.. stepOf];
+        // The covariance table's grid, so trajectories and covariances line up row by row.
+        var grid = dynamics.OutputGrid(outputStepS);
+        var path = dynamics.PathStepsThrough(grid.Times);
+        Times = grid.Times;
+        _stepOf = [.. path.StepOf];
         int nn = _n * _n;
-        _steps = new double[2 * nn * phi.Count];
-        for (int s = 0; s < phi.Count; s++)
+        _steps = new double[2 * nn * path.Steps.Length];
+        for (int s = 0; s < path.Steps.Length; s++)
         {
-            phi[s].CopyTo(_steps, 2 * nn * s);
-            factor[s].CopyTo(_steps, 2 * nn * s + nn);
+            path.Steps[s].Phi.ToRowMajorArray().CopyTo(_steps, 2 * nn * s);
+            GaussianFactor.Of(path.Steps[s].Q).CopyTo(_steps, 2 * nn * s + nn);
         }
         _components = [.. Components];
         _allComponents = _components.Length == _n && _components.Select((c, j) => c == j).All(b => b);

@@ -1,6 +1,7 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Engine;
 using Decohere.Sampling;
+using Decohere.Core;
 
 namespace Decohere.Statistics;
 
@@ -121,7 +122,7 @@ public static class ReadoutEstimator
         ModeMoments.From(varX, varP, cov, meanX, meanP);
 
     /// <summary>Squeezing against zero-point; +∞ when var_min ≤ 0 (an interval end), NaN is never returned for finite input.</summary>
-    private static double Db(double varMin) => varMin > 0 ? 10 * Math.Log10(0.5 / varMin) : double.PositiveInfinity;
+    private static double Db(double varMin) => Physics.SqueezingDb(varMin);
 
     private static (double L00, double L10, double L11) Cholesky2(double a, double b, double c)
     {

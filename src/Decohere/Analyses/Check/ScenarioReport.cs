@@ -25,10 +25,10 @@ public sealed record TwoToneReport(string Stage, string Mechanical, string Cavit
     double DampingRate, double VarMinBadCavity, double VarMinCavityKept)
 {
     /// <summary>Squeezing in dB of the bad-cavity formula.</summary>
-    public double SqueezingDbBadCavity => 10 * Math.Log10(0.5 / VarMinBadCavity);
+    public double SqueezingDbBadCavity => Physics.SqueezingDb(VarMinBadCavity);
 
     /// <summary>Squeezing in dB with the cavity kept.</summary>
-    public double SqueezingDbCavityKept => 10 * Math.Log10(0.5 / VarMinCavityKept);
+    public double SqueezingDbCavityKept => Physics.SqueezingDb(VarMinCavityKept);
 }
 
 /// <summary>Stability and steady state of a stage as the engine computes them.</summary>
@@ -80,7 +80,7 @@ public sealed record ScenarioReport(
 
         var mechanical = s.Modes.Where(m => m.Kind == ModeKind.Mechanical)
             .Select(m => new MechanicalReport(m, m.Bath.Occupancy, m.Bath.TemperatureK ?? Physics.Temperature(m.FrequencyHz, m.Bath.Occupancy),
-                m.DecayRate * m.Bath.Occupancy))
+                Physics.ThermalDecoherenceRate(m.DecayRate, m.Bath.Occupancy)))
             .ToImmutableArray();
         foreach (var m in s.Modes)
             if (m.QualityFactor < 10)

@@ -3,7 +3,6 @@ using Decohere.Core;
 using Decohere.Engine;
 using Decohere.Model.Readouts;
 using Decohere.IO;
-using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -17,9 +16,9 @@ public readonly record struct ReadoutPrediction(double VarI, double VarQ, double
 
 /// <summary>
 /// The engine as the fit's model: free parameters are set through <see cref="ParameterPath"/>, the scenario is solved
-/// with <see cref="Dynamics.Solve"/>, and the state is carried from the readout stage's start through the sorted delays
-/// with exact Van Loan steps (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)), one discretisation per
-/// distinct gap, so evenly spaced delays cost one matrix exponential.
+/// with <see cref="Dynamics.Solve"/>, and the states at the delays come from <see cref="Dynamics.Walk"/> (exact Van Loan
+/// steps, C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978), one per distinct gap, so evenly spaced delays cost
+/// one matrix exponential).
 /// </summary>
 public sealed class ReadoutModel
 {
@@ -61,53 +60,23 @@ public sealed class ReadoutModel
         int stage = scenario.StageIndex(readout.Stage);
         int mode = dynamics.ModeNames.IndexOf(readout.Mode);
         int n = 2 * dynamics.ModeNames.Length;
-        var order = Enumerable.Range(0, delays.Count).OrderBy(k => delays[k]).ToArray();
-        var result = new ReadoutPrediction[delays.Count];
-        var v = new double[n * n];
-        var mean = new double[n];
-        Load(dynamics.Boundaries[stage], v, mean);
-        int current = stage;
-        double t = dynamics.StageStarts[stage];
-        var steppers = new Dictionary<(int, long), CovarianceStepper>();
-        foreach (int k in order)
+        double start = dynamics.StageStarts[stage];
+        var times = delays.Select(d => start + d).ToArray();
+        // The scenario must cover the data: past its end there is no model of the drives.
+        for (int k = 0; k < times.Length; k++)
         {
-            double target = dynamics.StageStarts[stage] + delays[k];
-            // Later stages start from their exact boundary states.
-            while (current + 1 < scenario.Stages.Length && target > dynamics.StageStarts[current + 1] * (1 + 1e-12) + 1e-18)
-            {
-                current++;
-                t = dynamics.StageStarts[current];
-                Load(dynamics.Boundaries[current], v, mean);
-            }
-            // Gaps are rounded to whole femtoseconds so evenly spaced delays share one discretisation; the next gap is
-            // measured from the rounded time, so the rounding never accumulates.
-            long femtoseconds = (long)Math.Round((target - t) * 1e15);
-            if (femtoseconds > 0)
-            {
-                if (!steppers.TryGetValue((current, femtoseconds), out var stepper))
-                {
-                    var model = dynamics.Models[current];
-                    stepper = new CovarianceStepper(VanLoan.Discretize(model.Drift, model.Diffusion, femtoseconds * 1e-15));
-                    steppers[(current, femtoseconds)] = stepper;
-                }
-                stepper.Step(v, mean);
-                t += femtoseconds * 1e-15;
-            }
+            if (!(delays[k] >= 0)) throw new InputException($"data delay {delays[k]:G6} s: delays count from the start of stage '{readout.Stage}' and must be >= 0");
+            if (dynamics.IsPastEnd(times[k]))
+                throw new InputException($"data delay {delays[k]:G6} s runs past the end of the scenario ({dynamics.EndS - start:G6} s after the start of stage '{readout.Stage}'); lengthen its last stage");
+        }
+        var result = new ReadoutPrediction[delays.Count];
+        dynamics.Walk(times, (k, v, mean) =>
+        {
             int a = 2 * mode, b = a + 1;
             double vx = v[a * n + a], vp = v[b * n + b], c = 0.5 * (v[a * n + b] + v[b * n + a]);
-            double occupancy = 0.5 * (vx + vp) - 0.5 + 0.5 * (mean[a] * mean[a] + mean[b] * mean[b]);
+            double occupancy = Physics.ModeOccupancy(vx, vp, mean[a], mean[b]);
             result[k] = new ReadoutPrediction(vx + addedNoise, vp + addedNoise, c, mean[a], mean[b], occupancy);
-        }
+        });
         return result;
-    }
-
-    private static void Load(GaussianState state, double[] v, double[] mean)
-    {
-        int n = mean.Length;
-        for (int i = 0; i < n; i++)
-        {
-            mean[i] = state.Mean[i];
-            for (int j = 0; j < n; j++) v[i * n + j] = state.Covariance[i, j];
-        }
     }
 }

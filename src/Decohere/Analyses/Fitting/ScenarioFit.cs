@@ -243,7 +243,7 @@ public static class ScenarioFit
         {
             ("bath_occupancy", Occupancy, Free($"modes.{m}.bath.occupancy") && !stage.BathOverrides.ContainsKey(m)),
             ("bath_temperature_k", s => Physics.Temperature(s.ModeNamed(m).FrequencyHz, Occupancy(s)), Free($"modes.{m}.bath.temperature") && !stage.BathOverrides.ContainsKey(m)),
-            ("thermal_decoherence_rate_per_s", s => s.ModeNamed(m).DecayRate * Occupancy(s), false),
+            ("thermal_decoherence_rate_per_s", s => Physics.ThermalDecoherenceRate(s.ModeNamed(m).DecayRate, Occupancy(s)), false),
             ("quality_factor", s => s.ModeNamed(m).QualityFactor, Free($"modes.{m}.quality_factor")),
             ("linewidth_hz", s => s.ModeNamed(m).LinewidthHz, Free($"modes.{m}.linewidth")),
             ("energy_decay_time_s", s => 1 / s.ModeNamed(m).DecayRate, false),
@@ -289,7 +289,7 @@ public static class ScenarioFit
                     var readoutStage = scenario.Readout!.Stage;
                     name = "thermal_decoherence_rate_per_s";
                     expression = "Γ_th = γ·n_th";
-                    quantity = s => s.ModeNamed(mode).DecayRate * s.BathOf(s.ModeNamed(mode), s.Stages[s.StageIndex(readoutStage)]).Occupancy;
+                    quantity = s => Physics.ThermalDecoherenceRate(s.ModeNamed(mode).DecayRate, s.BathOf(s.ModeNamed(mode), s.Stages[s.StageIndex(readoutStage)]).Occupancy);
                 }
                 else
                 {
@@ -342,10 +342,10 @@ public static class ScenarioFit
             values[bath] = temperature ? Physics.Temperature(frequency, n) : n;
             return values;
         }
-        double rate0 = scenario.ModeNamed(m).DecayRate * model.Apply(ml.Estimates).ModeNamed(m).Bath.Occupancy;
+        double rate0 = Physics.ThermalDecoherenceRate(scenario.ModeNamed(m).DecayRate, model.Apply(ml.Estimates).ModeNamed(m).Bath.Occupancy);
         double gammaHat = model.Apply(ml.Estimates).ModeNamed(m).DecayRate;
         var fittedScenario = model.Apply(ml.Estimates);
-        rate0 = gammaHat * fittedScenario.BathOf(fittedScenario.ModeNamed(m), fittedScenario.Stages[fittedScenario.StageIndex(scenario.Readout.Stage)]).Occupancy;
+        rate0 = Physics.ThermalDecoherenceRate(gammaHat, fittedScenario.BathOf(fittedScenario.ModeNamed(m), fittedScenario.Stages[fittedScenario.StageIndex(scenario.Readout.Stage)]).Occupancy);
         if (!(rate0 > 0) || !double.IsFinite(rate0)) return null;
         var parameters = ml.Parameters.Select((p, k) => k == bath
             ? new FitParameter("thermal_decoherence_rate_per_s", rate0, ParameterDomain.NonNegative)

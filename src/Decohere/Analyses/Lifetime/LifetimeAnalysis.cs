@@ -33,7 +33,7 @@ public sealed record LifetimeSettings
     public int CurvePoints { get; init; } = 241;
 
     /// <summary>Variance at a threshold in dB: var = ½·10^(−dB/10).</summary>
-    public static double ThresholdVariance(double db) => 0.5 * Math.Pow(10, -db / 10);
+    public static double ThresholdVariance(double db) => Physics.VarianceAtSqueezing(db);
 
     /// <summary>Checks the values; errors name the command-line option.</summary>
     /// <exception cref="InputException">A value is out of range.</exception>
@@ -93,7 +93,7 @@ public sealed record LifetimeCore(
     ImmutableArray<string> Notes)
 {
     /// <summary>Squeezing at the reference in dB.</summary>
-    public double InitialSqueezingDb => 10 * Math.Log10(0.5 / InitialVarMin);
+    public double InitialSqueezingDb => Physics.SqueezingDb(InitialVarMin);
 
     /// <summary>Physical over approximate lifetime; null when either is not a positive finite number.</summary>
     public double? Ratio => PhysicalLifetimeS is > 0 && ApproximateLifetimeS is > 0 ? PhysicalLifetimeS / ApproximateLifetimeS : null;

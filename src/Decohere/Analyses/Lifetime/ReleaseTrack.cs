@@ -1,46 +1,37 @@
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.Engine;
-using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Analyses.Lifetime;
 
 /// <summary>
-/// The exact evolution of one mode after a reference time (the end of the last driven stage, or of a named stage):
-/// the engine's own <see cref="Dynamics.Propagate"/> from the state at the stage boundaries, continued past the
-/// end of the scenario with the last stage's model with its tones switched off. Delays count from the reference.
+/// One mode seen from a reference time (the end of the last driven stage, or of a named stage): a view of the engine's
+/// dynamics solved with <see cref="Dynamics.ContinuesPastEnd"/>, so delays past the end of the scenario continue with the
+/// last stage's model with its tones switched off. Delays count from the reference.
 /// </summary>
 public sealed class ReleaseTrack
 {
-    /// <summary>Name of the stage appended to model the time after the end of the scenario.</summary>
-    public const string ExtensionStageName = "(after the last stage, undriven)";
-
-    private readonly int _firstStage;
-
-    private ReleaseTrack(Scenario scenario, Dynamics dynamics, string mode, int referenceStage, string reference)
+    private ReleaseTrack(Dynamics dynamics, string mode, int referenceStage, string reference)
     {
-        Scenario = scenario;
+        var scenario = dynamics.Scenario;
         Dynamics = dynamics;
         Mode = mode;
         ModeIndex = dynamics.ModeNames.IndexOf(mode);
         ReferenceStage = referenceStage;
         Reference = reference;
-        _firstStage = referenceStage + 1;
-        OriginS = referenceStage < 0 ? 0 : scenario.StageStarts[referenceStage] + scenario.Stages[referenceStage].DurationS;
-        ScenarioEndDelayS = scenario.TotalDurationS - OriginS;
-        var release = dynamics.Scenario.Stages[_firstStage];
+        OriginS = referenceStage < 0 ? 0 : dynamics.StageEnd(referenceStage);
+        ScenarioEndDelayS = dynamics.EndS - OriginS;
+        var release = dynamics.Stages[referenceStage + 1];
         var m = scenario.ModeNamed(mode);
         DecayRate = m.DecayRate;
-        BathOccupancy = dynamics.Scenario.BathOf(m, release).Occupancy;
+        BathOccupancy = scenario.BathOf(m, release).Occupancy;
         ReleaseStage = release.Name;
     }
 
     /// <summary>The scenario as given.</summary>
-    public Scenario Scenario { get; }
+    public Scenario Scenario => Dynamics.Scenario;
 
-    /// <summary>The engine's solution of the scenario with the undriven extension stage appended.</summary>
+    /// <summary>The engine's solution of the scenario, continued past its end with the drives off.</summary>
     public Dynamics Dynamics { get; }
 
     /// <summary>The mode followed.</summary>
@@ -100,38 +91,29 @@ public sealed class ReleaseTrack
         string name = mode ?? scenario.Readout?.Mode
             ?? scenario.Modes.FirstOrDefault(m => m.Kind == ModeKind.Mechanical)?.Name
             ?? throw new InputException("the scenario has no readout and no mechanical mode; nothing to follow");
-        var last = scenario.Stages[^1];
-        // Past its end the scenario is continued with its last stage's baths and detunings but no tones: the drives are off.
-        var extended = scenario with { Stages = scenario.Stages.Add(last with { Name = ExtensionStageName, Tones = [] }) };
-        var dynamics = Dynamics.Solve(extended);
+        var dynamics = Dynamics.Solve(scenario, continuePastEnd: true);
         if (!dynamics.ModeNames.Contains(name))
             throw new InputException($"mode '{name}' is not in the state of this model; modes: {string.Join(", ", dynamics.ModeNames)}");
-        return new ReleaseTrack(scenario, dynamics, name, reference, description);
+        return new ReleaseTrack(dynamics, name, reference, description);
     }
 
-    /// <summary>The exact state at <paramref name="delay"/> seconds after the reference (one Van Loan step from the last stage boundary).</summary>
+    /// <summary>The exact state at <paramref name="delay"/> seconds after the reference.</summary>
     public GaussianState StateAt(double delay)
     {
         if (!(delay >= 0)) throw new ArgumentOutOfRangeException(nameof(delay), delay, "delay must be >= 0");
-        var starts = Dynamics.StageStarts;
-        int extension = starts.Length - 1;
-        int i = _firstStage;
-        double t = OriginS + delay;
-        while (i < extension && t > starts[i] + Dynamics.Scenario.Stages[i].DurationS) i++;
-        double dt = i == _firstStage ? delay - (starts[i] - OriginS) : t - starts[i];
-        return dt <= 0 ? Dynamics.Boundaries[i] : Dynamics.Propagate(Dynamics.Boundaries[i], i, dt);
+        return Dynamics.StateAt(OriginS + delay);
     }
 
     /// <summary>The mode's minimum quadrature variance at a delay (quanta; zero-point ½).</summary>
     public double VarMin(double delay) => StateAt(delay).Moments(ModeIndex).VarMin;
 
     /// <summary>True when the delay lies past the end of the scenario's last stage.</summary>
-    public bool PastScenarioEnd(double delay) => delay > ScenarioEndDelayS * (1 + 1e-12);
+    public bool PastScenarioEnd(double delay) => Dynamics.IsPastEnd(OriginS + delay);
 
     /// <summary>Steady minimum variance of the undriven extension, when it is stable.</summary>
     public double? ExtensionSteadyVarMin()
     {
-        int extension = Dynamics.StageStarts.Length - 1;
+        int extension = Dynamics.Stages.Length - 1;
         return Dynamics.HasSteadyState(extension) ? Dynamics.SteadyState(extension).Moments(ModeIndex).VarMin : null;
     }
 }

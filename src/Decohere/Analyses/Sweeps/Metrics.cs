@@ -81,7 +81,7 @@ public static class Metrics
             {
                 string mode = ModeArgument(s, arg, "thermal_decoherence_rate");
                 return new Metric($"thermal_decoherence_rate:{mode}", $"thermal_decoherence_rate_per_s.{mode}", "γ·n_th",
-                    p => p.Scenario.ModeNamed(mode) is var m ? m.DecayRate * m.Bath.Occupancy : 0);
+                    p => p.Scenario.ModeNamed(mode) is var m ? Physics.ThermalDecoherenceRate(m.DecayRate, m.Bath.Occupancy) : 0);
             }),
         new("added_noise", MetricArgument.None, "the readout's added noise per quadrature referred to the measured mode (quanta; from the readout chain)",
             (s, _) => s.Readout is null
@@ -200,7 +200,7 @@ public static class Metrics
             {
                 var sc = p.Scenario;
                 double t = sc.StageStarts[sc.StageIndex(stage)] + delay;
-                if (t > sc.TotalDurationS * (1 + 1e-12))
+                if (p.Dynamics.IsPastEnd(t))
                     throw new InputException($"{name}: the readout at {Quantity.Format(delay, Dimension.Time)} after the start of '{stage}' is past the end of the last stage");
                 double varMin = p.Dynamics.StateAt(t).Moments(mode).VarMin;
                 return VarianceStatistics.ResolutionProbability(varMin, ReadoutChains.For(sc).AddedNoise, sc.Readout!.Shots);

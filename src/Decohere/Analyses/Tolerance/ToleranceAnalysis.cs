@@ -83,7 +83,7 @@ public sealed record ToleranceResult(
     ImmutableArray<string> Notes)
 {
     /// <summary>Squeezing at the delay in dB.</summary>
-    public double SqueezingDb => 10 * Math.Log10(0.5 / VarMin);
+    public double SqueezingDb => Physics.SqueezingDb(VarMin);
 }
 
 /// <summary>

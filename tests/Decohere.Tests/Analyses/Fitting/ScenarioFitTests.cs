@@ -34,6 +34,16 @@ public class ScenarioFitTests
         }
     }
 
+    [Fact]
+    public void DataPastTheEndOfTheScenarioAreRefused()
+    {
+        // The scenario runs 50 ms; a delay of 60 ms has no model of the drives behind it.
+        var s = SyntheticData.SingleMode(Nth, LinewidthHz, AddedNoise, 0.05);
+        var e = Assert.Throws<InputException>(() => ReadoutModel.Predict(s, [0.01, 0.06]));
+        Assert.Contains("past the end of the scenario", e.Message);
+        Assert.Equal(2, ReadoutModel.Predict(s, [0.05, 0.01]).Length);
+    }
+
     [Theory]
     [InlineData(11)]
     [InlineData(12)]
