@@ -243,30 +243,29 @@ public static class LifetimeAnalysis
     /// </summary>
     private static ImmutableArray<LifetimeSensitivity> Sensitivities(Scenario scenario, LifetimeSettings settings, LifetimeCore core)
     {
-        var changes = new List<(string Path, string Change, Func<double, double> Apply)>
+        var changes = new List<(string Path, string Change, Func<double, double> Apply, Scenario From)>
         {
-            ($"modes.{core.Mode}.bath.temperature", "+1 mK", t => t + 1e-3),
-            ($"modes.{core.Mode}.linewidth", "×2", g => 2 * g),
+            ($"modes.{core.Mode}.bath.temperature", "+1 mK", t => t + 1e-3, scenario),
+            ($"modes.{core.Mode}.linewidth", "×2", g => 2 * g, scenario),
         };
         if (scenario.Readout is { } readout)
         {
             // A readout given by a chain or a pulse is replaced by its stated equivalent, so that the added noise itself can change.
-            if (readout.AddedNoise is null)
-                scenario = scenario with
-                {
-                    Readout = readout with { Method = ReadoutMethod.Phenomenological, AddedNoise = ReadoutChains.For(scenario).AddedNoise, Chain = [] },
-                };
-            changes.Add(("readout.added_noise", "+0.1 quanta", n => n + 0.1));
-            changes.Add(("readout.shots", "×2", n => Math.Min(2 * n, int.MaxValue)));
+            var stated = readout.AddedNoise is not null ? scenario : scenario with
+            {
+                Readout = readout with { Method = ReadoutMethod.Phenomenological, AddedNoise = ReadoutChains.For(scenario).AddedNoise, Chain = [] },
+            };
+            changes.Add(("readout.added_noise", "+0.1 quanta", n => n + 0.1, stated));
+            changes.Add(("readout.shots", "×2", n => Math.Min(2 * n, int.MaxValue), scenario));
         }
         var quiet = settings with { Sensitivities = false };
         var result = ImmutableArray.CreateBuilder<LifetimeSensitivity>();
-        foreach (var (path, change, apply) in changes)
+        foreach (var (path, change, apply, from) in changes)
         {
-            var p = ParameterPath.Parse(path, scenario);
-            double from = p.Get(scenario), to = apply(from);
-            var c = Analyze(p.Set(scenario, to), quiet);
-            result.Add(new LifetimeSensitivity(path, change, from, to, c.PhysicalLifetimeS, c.ObservableLifetimeS,
+            var p = ParameterPath.Parse(path, from);
+            double value = p.Get(from), to = apply(value);
+            var c = Analyze(p.Set(from, to), quiet);
+            result.Add(new LifetimeSensitivity(path, change, value, to, c.PhysicalLifetimeS, c.ObservableLifetimeS,
                 c.PhysicalLifetimeS - core.PhysicalLifetimeS, c.ObservableLifetimeS - core.ObservableLifetimeS));
         }
         return result.ToImmutable();
