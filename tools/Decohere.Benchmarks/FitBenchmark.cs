@@ -68,9 +68,9 @@ public class FitBenchmark
 
     /// <summary>Read 400,000 shots from CSV, reduce them, fit, profile.</summary>
     [Benchmark]
-    public FitResult ReadAndFit() => ScenarioFit.Run(_scenario, FitDataReader.ReadAsync(_csv, _scenario).GetAwaiter().GetResult(), Free);
+    public FitResult ReadAndFit() => FitAnalysis.Solve(_scenario, new FitSettings { Free = [.. Free] }, FitDataReader.ReadAsync(_csv, _scenario).GetAwaiter().GetResult());
 
     /// <summary>The fit alone, on the per-delay sufficient statistics.</summary>
     [Benchmark]
-    public FitResult FitOnly() => ScenarioFit.Run(_scenario, _data, Free);
+    public FitResult FitOnly() => FitAnalysis.Solve(_scenario, new FitSettings { Free = [.. Free] }, _data);
 }

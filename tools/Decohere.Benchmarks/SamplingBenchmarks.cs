@@ -3,6 +3,7 @@ using BenchmarkDotNet.Engines;
 using Decohere.Core;
 using Decohere.Engine;
 using Decohere.IO;
+using Decohere.Numerics;
 using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;

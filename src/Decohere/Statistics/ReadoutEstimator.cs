@@ -1,6 +1,6 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Engine;
-using Decohere.Sampling;
+using Decohere.Numerics;
 
 namespace Decohere.Statistics;
 

@@ -1,6 +1,5 @@
 using System.Collections.Immutable;
-using Decohere.Analyses.Calibration;
-using Decohere.IO;
+using Decohere.Core;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -9,6 +8,9 @@ namespace Decohere.Analyses.Fitting;
 /// <summary>Settings of a scenario fit.</summary>
 public sealed record FitSettings
 {
+    /// <summary>Parameter paths to fit (empty: the readout mode's bath occupancy and linewidth, plus the added noise for shots or variances).</summary>
+    public ImmutableArray<string> Free { get; init; } = [];
+
     /// <summary>Optimiser starts.</summary>
     public int Starts { get; init; } = 4;
 
@@ -29,6 +31,15 @@ public sealed record FitSettings
 
     /// <summary>Points of the fitted curve written for the plot.</summary>
     public int CurvePoints { get; init; } = 161;
+
+    /// <summary>Checks the values; errors name the setting.</summary>
+    /// <exception cref="InputException">A value is out of range.</exception>
+    public void Validate()
+    {
+        if (Starts < 1) throw new InputException($"starts: {Starts}: must be ≥ 1");
+        if (!(Confidence > 0 && Confidence < 1)) throw new InputException($"confidence: {Confidence} is out of range; allowed 0 < C < 1 (e.g. 0.95)");
+        if (CurvePoints < 2) throw new InputException($"curve points: {CurvePoints}: must be ≥ 2");
+    }
 }
 
 /// <summary>
@@ -66,4 +77,14 @@ public sealed record FitResult(
     string Likelihood,
     double Confidence,
     int Evaluations,
-    double ElapsedSeconds);
+    double ElapsedSeconds) : IAnalysisResult
+{
+    /// <inheritdoc/>
+    public Provenance Provenance { get; } = Provenance.For(Scenario);
+
+    /// <inheritdoc/>
+    public ResultStatus Status => ResultStatuses.From(Warnings);
+
+    /// <inheritdoc/>
+    public WorkStatistics Work => new(TimeSpan.FromSeconds(ElapsedSeconds), Evaluations);
+}

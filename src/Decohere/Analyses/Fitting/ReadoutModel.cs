@@ -1,10 +1,7 @@
-using Decohere.Analyses.Calibration;
 using Decohere.Core;
 using Decohere.Engine;
-using Decohere.IO;
 using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Analyses.Fitting;
 

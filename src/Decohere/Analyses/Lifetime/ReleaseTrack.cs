@@ -1,9 +1,6 @@
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.Engine;
-using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Analyses.Lifetime;
 

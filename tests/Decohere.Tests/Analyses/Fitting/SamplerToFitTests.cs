@@ -34,7 +34,7 @@ public class SamplerToFitTests
                 await table.CommitAsync();
             }
             var data = await FitDataReader.ReadAsync(path, scenario);
-            var fit = ScenarioFit.Run(scenario, data, ["modes.drum.bath.temperature", "readout.added_noise"], new FitSettings { Starts = 1 });
+            var fit = FitAnalysis.Solve(scenario, new FitSettings { Starts = 1, Free = ["modes.drum.bath.temperature", "readout.added_noise"] }, data);
             var t = fit.Parameters.Single(p => p.Name == "modes.drum.bath.temperature");
             estimates.Add(t.Value);
             sumSquaredErrors += t.StandardError * t.StandardError;
