@@ -1,7 +1,6 @@
 using BenchmarkDotNet.Attributes;
 using System.Globalization;
 using System.Text;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.IO;
 using Decohere.Scenarios;

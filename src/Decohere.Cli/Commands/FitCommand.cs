@@ -4,6 +4,7 @@ using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;
 using Decohere.Reports;
+using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 

@@ -1,4 +1,3 @@
-using Spectre.Console;
 using System.CommandLine;
 using Decohere.Core;
 using Decohere.IO;

@@ -3,7 +3,6 @@ using System.Text.Json.Nodes;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Statistics;
 
 namespace Decohere.Reports;
 

@@ -1,5 +1,4 @@
 using System.Text.Json.Nodes;
-using Decohere.IO;
 using Decohere.Sampling;
 using Decohere.Statistics;
 

@@ -4,7 +4,6 @@ using System.Text.Json.Nodes;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Statistics;
 
 namespace Decohere.Reports;
 

@@ -1,7 +1,6 @@
 using System.CommandLine;
 using System.Text.Json.Nodes;
 using Decohere.Cli.Commands;
-using Decohere.Tests.Analyses.Lifetime;
 
 using Commands = Decohere.Cli.Commands;
 

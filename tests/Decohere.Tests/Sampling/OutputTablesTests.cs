@@ -1,5 +1,4 @@
 using System.Globalization;
-using Decohere.Cli.Commands;
 using Decohere.Scenarios;
 
 namespace Decohere.Tests.Sampling;

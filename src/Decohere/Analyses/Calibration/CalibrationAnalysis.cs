@@ -1,6 +1,5 @@
 using MathNet.Numerics.Distributions;
 using System.Collections.Immutable;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.Statistics;
 

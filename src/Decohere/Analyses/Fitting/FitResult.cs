@@ -42,17 +42,8 @@ public sealed record FitSettings
     }
 }
 
-/// <summary>
-/// A fitted or derived quantity: value, standard error and interval (ci_low/ci_high at the fit's confidence).
-/// An end not reached by the profile is the domain's bound (0) or unbounded (+∞) and is flagged.
-/// </summary>
-public sealed record FittedQuantity(string Name, double Value, double StandardError, double Low, double High, bool LowReached, bool HighReached, string Method);
-
 /// <summary>A combination of two parameters that the data do determine when the two are not separately identified.</summary>
 public sealed record IdentifiedCombination(string Name, string Expression, string First, string Second, double Correlation, FittedQuantity FittedQuantity);
-
-/// <summary>Goodness of fit: the deviance at the optimum against χ² with (statistics − parameters) degrees of freedom.</summary>
-public sealed record GoodnessOfFit(double Deviance, int DegreesOfFreedom, double ReducedChiSquare, double PValue);
 
 /// <summary>Data and model at one delay: the model's prediction and its pointwise standard deviation from the parameter covariance.</summary>
 public sealed record DelayFit(DelayObservation Data, ReadoutPrediction Model, ReadoutPrediction ModelSd);

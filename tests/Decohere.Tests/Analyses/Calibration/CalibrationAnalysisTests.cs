@@ -1,10 +1,7 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.IO;
 using Decohere.Statistics;
-using Decohere.Tests.Analyses.Fitting;
 
 namespace Decohere.Tests.Analyses.Calibration;
 

@@ -1,5 +1,4 @@
 using MathNet.Numerics.Distributions;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;

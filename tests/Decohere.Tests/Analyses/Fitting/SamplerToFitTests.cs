@@ -1,4 +1,3 @@
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.Engine;
@@ -6,7 +5,6 @@ using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Fitting;
 

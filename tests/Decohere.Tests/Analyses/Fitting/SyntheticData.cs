@@ -2,10 +2,8 @@ using MathNet.Numerics.Distributions;
 using MathNet.Numerics.LinearAlgebra;
 using System.Globalization;
 using System.Text;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Engine;
-using Decohere.IO;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 

@@ -1,10 +1,7 @@
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Lifetime;
 

@@ -1,6 +1,5 @@
 using Decohere.Analyses.Sweeps;
 using Decohere.Core;
-using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Scenarios;
 using Decohere.Tests.Cli;

@@ -1,7 +1,5 @@
-using Decohere.Analyses.Lifetime;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.Numerics;
 using Decohere.Statistics;
 using Decohere.Tests.Analyses.Lifetime;
 
