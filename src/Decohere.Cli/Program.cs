@@ -4,12 +4,13 @@ using Decohere.Cli.Commands;
 var root = new RootCommand(
     "Decohere: plan and analyse how a mechanical mode coupled to a cavity loses its squeezing. " +
     "Evolves Gaussian states exactly from a scenario file and writes Parquet tables, plots and summaries.");
+var console = AppConsole.System();
 foreach (var command in new[]
 {
-    RunCommand.Create(), CheckCommand.Create(), InitCommand.Create(),
-    LifetimeCommand.Create(), ToleranceCommand.Create(),
-    FitCommand.Create(), FitNoiseCommand.Create(),
-    SweepCommand.Create(), MergeCommand.Create(),
+    RunCommand.Create(console), CheckCommand.Create(console), InitCommand.Create(console),
+    LifetimeCommand.Create(console), ToleranceCommand.Create(console),
+    FitCommand.Create(console), FitNoiseCommand.Create(console),
+    SweepCommand.Create(console), MergeCommand.Create(console),
 })
     root.Subcommands.Add(command);
-return await Cli.InvokeAsync(root, args);
+return await Cli.InvokeAsync(root, args, console);

@@ -1,7 +1,6 @@
 using BenchmarkDotNet.Attributes;
 using System.Globalization;
 using System.Text;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.IO;
 using Decohere.Scenarios;
@@ -68,9 +67,9 @@ public class FitBenchmark
 
     /// <summary>Read 400,000 shots from CSV, reduce them, fit, profile.</summary>
     [Benchmark]
-    public FitResult ReadAndFit() => ScenarioFit.Run(_scenario, FitDataReader.ReadAsync(_csv, _scenario).GetAwaiter().GetResult(), Free);
+    public FitResult ReadAndFit() => FitAnalysis.Solve(_scenario, new FitSettings { Free = [.. Free] }, FitDataReader.ReadAsync(_csv, _scenario).GetAwaiter().GetResult());
 
     /// <summary>The fit alone, on the per-delay sufficient statistics.</summary>
     [Benchmark]
-    public FitResult FitOnly() => ScenarioFit.Run(_scenario, _data, Free);
+    public FitResult FitOnly() => FitAnalysis.Solve(_scenario, new FitSettings { Free = [.. Free] }, _data);
 }

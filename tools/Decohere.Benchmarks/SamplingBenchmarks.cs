@@ -2,7 +2,7 @@ using BenchmarkDotNet.Attributes;
 using BenchmarkDotNet.Engines;
 using Decohere.Core;
 using Decohere.Engine;
-using Decohere.IO;
+using Decohere.Numerics;
 using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;

@@ -1,5 +1,6 @@
 using BenchmarkDotNet.Attributes;
 using Decohere.Analyses.Sweeps;
+using Decohere.Reports;
 using Decohere.Scenarios;
 
 namespace Decohere.Benchmarks;
@@ -24,7 +25,8 @@ public class SweepSteadySqueezing
     [Benchmark(Description = "demo: 20x20 steady squeezing sweep")]
     public async Task<long> Run()
     {
-        var result = await SweepRunner.RunAsync(_sweep, _dir, new SweepRunOptions());
+        var result = await SweepAnalysis.SolveAsync(_sweep, new SweepSettings(), new SweepChunkStore(_dir));
+        await new SweepReport().WriteAsync(result, _dir);
         return result.Computed;
     }
 

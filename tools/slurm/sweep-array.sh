@@ -16,7 +16,7 @@ set -euo pipefail
 : "${SHARDS:?set SHARDS to the number of array tasks (the N of --array=0-(N-1))}"
 : "${OUT:?set OUT to the output directory (shared by all tasks)}"
 : "${SCENARIO:?set SCENARIO to the scenario file}"
-: "${VARY:?set VARY to one or more --vary specifications separated by ';' (PATH=FROM:TO:COUNT[:log] or PATH=v1,v2,...)}"
+: "${VARY:?set VARY to one or more --vary specifications separated by ';' (PATH=FROM:TO:COUNT[:log], PATH=FROM:TO:+STEP or PATH=v1,v2,...)}"
 : "${SLURM_ARRAY_TASK_ID:?run this script as a Slurm job array (sbatch --array=0-(N-1))}"
 DECOHERE=${DECOHERE:-decohere}
 

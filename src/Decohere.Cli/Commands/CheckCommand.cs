@@ -11,19 +11,17 @@ namespace Decohere.Cli.Commands;
 public static class CheckCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: false);
         var command = new Command("check", "Validate a scenario and print couplings, cooperativities, bath occupancies, decoherence rates, stage stability, predicted squeezing and warnings.")
         {
             scenario,
         };
-        command.SetAction((parse, _) => Cli.Guard(() =>
+        command.SetAction((parse, _) => Cli.Guard(console, null, () =>
         {
-            var s = Cli.Load(parse.GetValue(scenario));
-            var dynamics = Dynamics.Solve(s);
-            var report = ScenarioReport.Of(dynamics);
-            Print(report, dynamics);
+            var result = CheckAnalysis.Solve(Cli.Load(parse.GetValue(scenario)));
+            Print(console, result);
             return Task.FromResult(Cli.Ok);
         }));
         return command;
@@ -45,11 +43,12 @@ public static class CheckCommand
     private static string Hz(double v) => Quantity.Format(v, Dimension.Frequency);
     private static string Rate(double perSecond) => $"{perSecond:G4} s⁻¹";
 
-    /// <summary>Prints the report as tables.</summary>
-    public static void Print(ScenarioReport report, Dynamics dynamics)
+    /// <summary>Prints the check as tables.</summary>
+    public static void Print(AppConsole console, CheckResult result)
     {
-        var s = dynamics.Scenario;
-        var o = Cli.Out;
+        var report = result.Report;
+        var s = result.Scenario;
+        var o = console.Out;
         o.MarkupLineInterpolated($"[bold]{s.Name}[/]: valid, model {s.Model.ToString().ToLowerInvariant()}, {s.Modes.Length} modes, {s.Stages.Length} stages, {Quantity.Format(s.TotalDurationS, Dimension.Time)} in all");
 
         var mech = new Table().Title("mechanical modes");
@@ -98,7 +97,7 @@ public static class CheckCommand
             o.Write(two);
         }
         if (report.Readout is { } readout) PrintReadout(o, readout);
-        Cli.Warnings(report.Warnings);
+        console.Warnings(report.Warnings);
         if (report.Warnings.Length == 0) o.MarkupLine("[green]no warnings[/]");
     }
 }

@@ -18,28 +18,14 @@ public static class Cli
     /// <summary>Stopped by Ctrl-C or SIGTERM (128 + SIGINT, the shell convention).</summary>
     public const int Interrupted = 130;
 
-    /// <summary>The console for tables and messages (stdout).</summary>
-    public static IAnsiConsole Out { get; set; } = Wide(AnsiConsole.Console, Console.IsOutputRedirected);
-
-    /// <summary>The console for errors and progress (stderr).</summary>
-    public static IAnsiConsole Error { get; set; } =
-        Wide(AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(Console.Error) }), Console.IsErrorRedirected);
-
-    // Piped output goes to files and logs, not an 80-column window: don't wrap tables there.
-    private static IAnsiConsole Wide(IAnsiConsole console, bool redirected)
-    {
-        if (redirected) console.Profile.Width = 240;
-        return console;
-    }
-
     /// <summary>Parses and runs; command-line errors exit with <see cref="BadInput"/>.</summary>
-    public static async Task<int> InvokeAsync(RootCommand root, string[] args)
+    public static async Task<int> InvokeAsync(RootCommand root, string[] args, AppConsole console)
     {
         var parse = root.Parse(args);
         if (parse.Errors.Count > 0)
         {
-            foreach (var error in parse.Errors) Error.MarkupLineInterpolated($"[red]error:[/] {error.Message}");
-            Error.MarkupLine("Run with --help for usage.");
+            foreach (var error in parse.Errors) console.Error.MarkupLineInterpolated($"[red]error:[/] {error.Message}");
+            console.Error.MarkupLine("Run with --help for usage.");
             return BadInput;
         }
         // Our own stop signal instead of the parser's: its handler exits the process after a timeout, which would cut
@@ -76,6 +62,11 @@ public static class Cli
     /// <summary>--quiet.</summary>
     public static Option<bool> QuietOption() => new("--quiet", "-q") { Description = "Print only errors and the paths written." };
 
+    /// <summary>A quantity with units for a setting (<c>"2 ms"</c>); the error names the setting, which the command maps to its option.</summary>
+    /// <exception cref="InputException">Not a number of the dimension.</exception>
+    public static double Quantity(string text, Dimension dimension, string setting) =>
+        Core.Quantity.TryParse(text, dimension, out double v, out string? error) ? v : throw new InputException($"{setting}: {error}");
+
     /// <summary>Loads the scenario file, or the demo when none is given.</summary>
     public static Scenario Load(FileInfo? file) => file is null ? ScenarioLoader.Demo() : ScenarioLoader.Load(file.FullName);
 
@@ -83,8 +74,12 @@ public static class Cli
     public static string OutputDirectory(DirectoryInfo? option, Scenario scenario) =>
         option?.FullName ?? Path.Combine("results", scenario.Name);
 
-    /// <summary>Runs a command body, turning the library's exceptions into messages and exit codes.</summary>
-    public static async Task<int> Guard(Func<Task<int>> body)
+    /// <summary>
+    /// Runs a command body, turning the library's exceptions into messages and exit codes. The library names its
+    /// settings in its own words ("threshold: …"); <paramref name="flags"/> maps those words to this command's options,
+    /// so a message that starts with a setting is shown with the option the user typed.
+    /// </summary>
+    public static async Task<int> Guard(AppConsole console, IReadOnlyDictionary<string, string>? flags, Func<Task<int>> body)
     {
         try
         {
@@ -92,36 +87,41 @@ public static class Cli
         }
         catch (ScenarioException e)
         {
-            Error.MarkupLineInterpolated($"[red]error:[/] {e.SourceName}: {e.Problems.Count} problem{(e.Problems.Count == 1 ? "" : "s")}");
+            console.Error.MarkupLineInterpolated($"[red]error:[/] {e.SourceName}: {e.Problems.Count} problem{(e.Problems.Count == 1 ? "" : "s")}");
             // Plain writes: one problem per line, never wrapped, so editors and scripts can jump to path:line.
-            foreach (var p in e.Problems) Console.Error.WriteLine("  " + p);
+            foreach (var p in e.Problems) console.ErrorText.WriteLine("  " + p);
             return BadInput;
         }
         catch (InputException e)
         {
-            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            console.Error.MarkupLineInterpolated($"[red]error:[/] {AsOption(e.Message, flags)}");
             return BadInput;
         }
         catch (UnstableDynamicsException e)
         {
-            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            console.Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
             return BadInput;
         }
         catch (OperationCanceledException)
         {
-            Error.MarkupLine("[yellow]stopped:[/] finished files are kept; no partial file is left.");
+            console.Error.MarkupLine("[yellow]stopped:[/] finished files are kept; no partial file is left.");
             return Failure;
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
-            Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
+            console.Error.MarkupLineInterpolated($"[red]error:[/] {e.Message}");
             return Failure;
         }
     }
 
-    /// <summary>Prints warnings in yellow.</summary>
-    public static void Warnings(IEnumerable<string> warnings)
+    /// <summary>A library message that starts with a setting's name, restated with the command's option for it.</summary>
+    public static string AsOption(string message, IReadOnlyDictionary<string, string>? flags)
     {
-        foreach (var w in warnings) Out.MarkupLineInterpolated($"[yellow]warning:[/] {w}");
+        if (flags is null) return message;
+        // Longest name first, so "reference stage" wins over a shorter name that prefixes it.
+        foreach (var (setting, flag) in flags.OrderByDescending(kv => kv.Key.Length))
+            if (message.StartsWith(setting, StringComparison.Ordinal) && message.Length > setting.Length && message[setting.Length] is ':' or ' ')
+                return flag + message[setting.Length..];
+        return message;
     }
 }

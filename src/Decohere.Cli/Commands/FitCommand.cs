@@ -1,6 +1,5 @@
 using Spectre.Console;
 using System.CommandLine;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;
@@ -27,7 +26,7 @@ public static class FitCommand
     };
 
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: false);
         var data = DataOption("Measured data, CSV (header row, comma-separated) or Parquet, with columns delay_s, i, q (shots); " +
@@ -49,30 +48,39 @@ public static class FitCommand
         {
             scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
             var options = DataOptions.Parse(parse.GetValue(columns) ?? [], parse.GetValue(delayUnit), parse.GetValue(mode));
             var fitData = await FitDataReader.ReadAsync(parse.GetValue(data)!.FullName, s, options, cancel);
-            var paths = (parse.GetValue(free) ?? []).SelectMany(f => f.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries)).ToList();
-            if (paths.Count == 0) paths = [.. ScenarioFit.DefaultFree(s, fitData.Shape)];
-            int startCount = parse.GetValue(starts);
-            if (startCount < 1) throw new InputException($"--starts {startCount}: must be ≥ 1");
-            var result = ScenarioFit.Run(s, fitData, paths, new FitSettings { Starts = startCount, Profiles = !parse.GetValue(noProfiles) });
+            var settings = new FitSettings
+            {
+                Free = [.. (parse.GetValue(free) ?? []).SelectMany(f => f.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries))],
+                Starts = parse.GetValue(starts),
+                Profiles = !parse.GetValue(noProfiles),
+            };
+            var result = FitAnalysis.Solve(s, settings, fitData);
             cancel.ThrowIfCancellationRequested();
-            var written = await FitOutput.WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var paths = await new FitReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
             if (!parse.GetValue(quiet))
             {
-                Cli.Out.Write(Table(result));
+                console.Out.Write(Table(result));
                 var g = result.Goodness;
-                Cli.Out.MarkupLineInterpolated($"deviance {g.Deviance:G5} for {g.DegreesOfFreedom} degrees of freedom: reduced χ² {g.ReducedChiSquare:G4}, p = {g.PValue:G3} ({result.Likelihood})");
-                Cli.Warnings(result.Warnings);
+                console.Out.MarkupLineInterpolated($"deviance {g.Deviance:G5} for {g.DegreesOfFreedom} degrees of freedom: reduced χ² {g.ReducedChiSquare:G4}, p = {g.PValue:G3} ({result.Likelihood})");
+                console.Warnings(result.Warnings);
             }
-            foreach (var path in written) Cli.Out.WriteLine(path);
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;
     }
+
+    /// <summary>The library's names of the settings the fit commands' options set.</summary>
+    internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
+    {
+        ["free parameters"] = "--free", ["starts"] = "--starts", ["column mapping"] = "--column", ["delay unit"] = "--delay-unit",
+        ["data file"] = "--data",
+    };
 
     /// <summary>The terminal table: each free parameter and derived quantity with its error and interval.</summary>
     public static Table Table(FitResult fit)

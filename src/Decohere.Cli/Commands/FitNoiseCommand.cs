@@ -1,11 +1,8 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
-using Decohere.Core;
 using Decohere.IO;
 using Decohere.Reports;
-using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 
@@ -13,7 +10,7 @@ namespace Decohere.Cli.Commands;
 public static class FitNoiseCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var data = FitCommand.DataOption("Calibration data, CSV or Parquet, with columns occupancy (prepared, quanta), var_i, var_q (measured) and shots.");
         var columns = FitCommand.ColumnOption();
@@ -23,16 +20,14 @@ public static class FitNoiseCommand
         {
             data, columns, output, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, FitCommand.Flags, async () =>
         {
             var options = DataOptions.Parse(parse.GetValue(columns) ?? [], null);
             var file = parse.GetValue(data)!;
-            var points = await NoiseCalibration.ReadAsync(file.FullName, options, cancel);
-            var result = NoiseCalibration.Fit(points, file.Name);
+            var points = await FitDataReader.ReadCalibrationAsync(file.FullName, options, cancel);
+            var result = CalibrationAnalysis.Solve(points, file.Name);
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
-            Directory.CreateDirectory(dir);
-            string path = Path.Combine(dir, "fit-noise.json");
-            SummaryJson.Write(FitOutput.NoiseJson(result), path);
+            var paths = await new CalibrationReport().WriteAsync(result, dir, cancel);
             if (!parse.GetValue(quiet))
             {
                 var table = new Table().Title($"[bold]noise calibration[/]: {Markup.Escape(file.Name)} ({points.Length} points)");
@@ -41,11 +36,11 @@ public static class FitNoiseCommand
                 foreach (var e in new[] { result.Gain, result.AddedNoise, result.AddedNoiseInputReferred })
                     table.AddRow(Markup.Escape(e.Name), e.Value.ToString("G5"), e.StandardError.ToString("G3"),
                         $"{(e.LowReached ? e.Low.ToString("G5") : "(0)")} – {(e.HighReached ? e.High.ToString("G5") : "∞")}");
-                Cli.Out.Write(table);
-                Cli.Out.MarkupLineInterpolated($"deviance {result.Goodness.Deviance:G5} for {result.Goodness.DegreesOfFreedom} degrees of freedom, p = {result.Goodness.PValue:G3}; correlation(gain, added_noise) = {result.Correlation:F3}");
-                Cli.Warnings(result.Warnings);
+                console.Out.Write(table);
+                console.Out.MarkupLineInterpolated($"deviance {result.Goodness.Deviance:G5} for {result.Goodness.DegreesOfFreedom} degrees of freedom, p = {result.Goodness.PValue:G3}; correlation(gain, added_noise) = {result.Correlation:F3}");
+                console.Warnings(result.Warnings);
             }
-            Cli.Out.WriteLine(path);
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;

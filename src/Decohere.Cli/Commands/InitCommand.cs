@@ -1,8 +1,6 @@
-using Spectre.Console;
 using System.CommandLine;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Reports;
 using Decohere.Scenarios;
 
 namespace Decohere.Cli.Commands;
@@ -11,18 +9,18 @@ namespace Decohere.Cli.Commands;
 public static class InitCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var file = new Argument<FileInfo?>("file") { Description = "Where to write the scenario (default: scenario.yaml).", Arity = ArgumentArity.ZeroOrOne };
         var force = new Option<bool>("--force") { Description = "Overwrite an existing file." };
         var command = new Command("init", "Write the annotated demo scenario to a file to edit.") { file, force };
-        command.SetAction((parse, _) => Cli.Guard(() =>
+        command.SetAction((parse, _) => Cli.Guard(console, null, () =>
         {
             string path = parse.GetValue(file)?.FullName ?? "scenario.yaml";
             if (File.Exists(path) && !parse.GetValue(force))
                 throw new InputException($"{path} exists; pass --force to overwrite it");
             AtomicFile.WriteAllText(path, ScenarioLoader.DemoText);
-            Cli.Out.WriteLine(path);
+            console.Paths([path]);
             return Task.FromResult(Cli.Ok);
         }));
         return command;

@@ -1,12 +1,8 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.Analyses.Lifetime;
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.IO;
-using Decohere.Numerics;
 using Decohere.Reports;
-using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 
@@ -17,7 +13,7 @@ namespace Decohere.Cli.Commands;
 public static class LifetimeCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var after = new Option<string?>("--after") { Description = "Count delays from the end of this stage (default: the last stage with tones)." };
@@ -39,39 +35,40 @@ public static class LifetimeCommand
         {
             scenario, after, threshold, confidence, output, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
             var settings = new LifetimeSettings
             {
                 AfterStage = parse.GetValue(after),
-                ThresholdDb = ParseQuantity(parse.GetValue(threshold)!, Dimension.Decibel, "--threshold"),
+                ThresholdDb = Cli.Quantity(parse.GetValue(threshold)!, Dimension.Decibel, "threshold"),
                 Confidence = parse.GetValue(confidence),
             };
-            var report = LifetimeAnalysis.Run(s, settings);
+            var result = LifetimeAnalysis.Solve(s, settings);
             cancel.ThrowIfCancellationRequested();
-            var paths = await LifetimeOutput.WriteAsync(report, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var paths = await new LifetimeReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
             if (!parse.GetValue(quiet))
             {
-                Cli.Out.Write(Table(report));
-                if (report.Sensitivities.Length > 0) Cli.Out.Write(SensitivityTable(report));
-                foreach (var note in report.Core.Notes) Cli.Out.MarkupLineInterpolated($"[yellow]note:[/] {note}");
+                console.Out.Write(Table(result));
+                if (result.Sensitivities.Length > 0) console.Out.Write(SensitivityTable(result));
+                console.Notes(result.Core.Notes);
             }
-            foreach (var path in paths) Cli.Out.WriteLine(path);
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;
     }
 
-    /// <summary>Parses an option value with units; the error names the option.</summary>
-    /// <exception cref="InputException">Not a number of the dimension.</exception>
-    internal static double ParseQuantity(string text, Dimension dimension, string option) =>
-        Quantity.TryParse(text, dimension, out double v, out string? error) ? v : throw new InputException($"{option}: {error}");
+    /// <summary>The library's names of the settings this command's options set.</summary>
+    internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
+    {
+        ["reference stage"] = "--after", ["threshold"] = "--threshold", ["confidence"] = "--confidence",
+    };
 
     private static string Time(double? s) => s is { } v && double.IsFinite(v) ? Quantity.Format(v, Dimension.Time) : "—";
 
     /// <summary>The lifetimes as a table.</summary>
-    public static Table Table(LifetimeReport report)
+    public static Table Table(LifetimeResult report)
     {
         var c = report.Core;
         var table = new Table().Title($"[bold]{Markup.Escape(report.Scenario.Name)}[/]: squeezing lifetime of {Markup.Escape(c.Mode)} after the {Markup.Escape(c.Reference)}");
@@ -81,7 +78,7 @@ public static class LifetimeCommand
         table.AddRow("squeezing at the reference", $"{c.InitialSqueezingDb:F3} dB", $"var_min = {c.InitialVarMin:G6}");
         table.AddRow("threshold", $"{c.ThresholdDb:G4} dB", $"var_min = {c.ThresholdVariance:G6}");
         table.AddRow("[bold]physical lifetime[/]", Time(c.PhysicalLifetimeS),
-            Markup.Escape(c.PhysicalStatus == LifetimeStatus.Crossed ? "root of var_min − threshold on the exact propagation" + (c.PhysicalPastScenarioEnd ? " (past the scenario's end)" : "") : LifetimeOutput.Status(c.PhysicalStatus)));
+            Markup.Escape(c.PhysicalStatus == LifetimeStatus.Crossed ? "root of var_min − threshold on the exact propagation" + (c.PhysicalPastScenarioEnd ? " (past the scenario's end)" : "") : LifetimeReport.Status(c.PhysicalStatus)));
         table.AddRow("single-mode t*", Time(c.ApproximateLifetimeS), Markup.Escape($"(1/γ)·ln[(n_th+½−V₀)/(n_th+½−V_thr)], γ = {c.DecayRate:G4} s⁻¹, n_th = {c.BathOccupancy:G4}"));
         table.AddRow("ratio physical / t*", c.Ratio is { } ratio ? ratio.ToString("F6") : "—", "");
         string readout = c.Readout is { } r ? $"n_add = {r.AddedNoise:G4}, {r.Shots} shots, {r.Confidence:P0} upper bound; power 0.5" : "no readout";
@@ -92,7 +89,7 @@ public static class LifetimeCommand
     }
 
     /// <summary>The sensitivities as a table.</summary>
-    public static Table SensitivityTable(LifetimeReport report)
+    public static Table SensitivityTable(LifetimeResult report)
     {
         var table = new Table().Title("sensitivities (finite differences on the exact model)");
         foreach (var h in new[] { "parameter", "change", "Δ physical", "Δ observable" }) table.AddColumn(h);

@@ -1,8 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.Analyses.Sweeps;
-using Decohere.Core;
-using Decohere.IO;
 using Decohere.Reports;
 
 namespace Decohere.Cli.Commands;
@@ -11,7 +9,7 @@ namespace Decohere.Cli.Commands;
 public static class MergeCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var directory = new Argument<DirectoryInfo>("dir") { Description = "Directory holding the part-K-of-N.parquet files of one sweep." };
         var quiet = Cli.QuietOption();
@@ -19,17 +17,15 @@ public static class MergeCommand
         {
             directory, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, null, async () =>
         {
             string dir = parse.GetValue(directory)!.FullName;
-            var result = await SweepMerge.MergeAsync(dir, cancel);
-            var paths = new List<string> { result.Path };
-            string png = Path.Combine(dir, "sweep.png");
-            string scenarioName = File.Exists(result.Path) ? (await SweepTable.ReadMetadataAsync(result.Path, cancel)).GetValueOrDefault("decohere.scenario_name", "sweep") : "sweep";
-            if (SweepPlot.Save(result.Description, result.Rows, scenarioName, png)) paths.Add(Path.GetFullPath(png));
+            var parts = await SweepTable.ReadPartsAsync(dir, cancel);
+            var result = SweepMerge.Solve(parts, dir);
+            var paths = await new SweepReport().WriteAsync(result, dir, cancel);
             if (!parse.GetValue(quiet))
-                Cli.Out.MarkupLineInterpolated($"merged {result.Parts.Count} part files: {result.Rows.Count} points, {result.Rows.Count(r => r.Error.Length > 0)} failed");
-            foreach (var path in paths) Cli.Out.WriteLine(path);
+                console.Out.MarkupLineInterpolated($"merged {parts.Count} part files: {result.Rows.Count} points, {result.Failed} failed");
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;

@@ -1,14 +1,11 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.Model.Readouts;
-using Decohere.Analyses.Check;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
 using Decohere.Engine;
-using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Sampling;
-using Decohere.Scenarios;
 using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
@@ -20,7 +17,7 @@ namespace Decohere.Cli.Commands;
 public static class RunCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var output = Cli.OutOption();
@@ -37,33 +34,34 @@ public static class RunCommand
         {
             scenario, output, seed, trajectories, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        var flags = new Dictionary<string, string> { ["trajectories"] = "--trajectories" };
+        command.SetAction((parse, cancel) => Cli.Guard(console, flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
-            int nTrajectories = parse.GetValue(trajectories);
-            if (nTrajectories < 0) throw new InputException($"--trajectories: {nTrajectories} is negative; give a count ≥ 0");
+            var settings = new RunSettings(parse.GetValue(trajectories));
+            settings.Validate();
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
-            bool showProgress = !isQuiet && !Console.IsErrorRedirected;
             void OnReadout(IReadoutChain chain)
             {
-                if (!isQuiet) CheckCommand.PrintReadout(Cli.Out, chain);
+                if (!isQuiet) CheckCommand.PrintReadout(console.Out, chain);
             }
-            var settings = new RunSettings(nTrajectories);
-            var written = showProgress
-                ? await Cli.Error.Progress()
+            var files = new RunFiles(dir);
+            var result = !isQuiet && console.Interactive
+                ? await console.Error.Progress()
                     .AutoClear(true)
                     .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
-                    .StartAsync(context => ScenarioRun.WriteAsync(s, dir, settings, new ProgressBars(context), OnReadout, cancel))
-                : await ScenarioRun.WriteAsync(s, dir, settings, null, OnReadout, cancel);
+                    .StartAsync(context => RunAnalysis.SolveAsync(s, settings, files, new ProgressBars(context), OnReadout, cancel))
+                : await RunAnalysis.SolveAsync(s, settings, files, null, OnReadout, cancel);
+            var paths = await new RunReport().WriteAsync(result, dir, cancel);
             if (!isQuiet)
             {
-                Cli.Out.Write(StageTable(written.Dynamics));
-                if (written.Sampling is { } sampling) Cli.Out.Write(EstimateTable(sampling));
-                Cli.Warnings(written.Report.Warnings);
+                console.Out.Write(StageTable(result.Dynamics));
+                if (result.Sampling is { } sampling) console.Out.Write(EstimateTable(sampling));
+                console.Warnings(result.Warnings);
             }
-            foreach (var path in written.Paths) Cli.Out.WriteLine(path);
+            console.Paths([.. paths, .. files.Paths]);
             return Cli.Ok;
         }));
         return command;

@@ -1,8 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.Analyses.Sweeps;
-using Decohere.Core;
-using Decohere.IO;
 using Decohere.Reports;
 
 namespace Decohere.Cli.Commands;
@@ -14,7 +12,7 @@ namespace Decohere.Cli.Commands;
 public static class SweepCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var vary = new Option<string[]>("--vary")
@@ -39,69 +37,72 @@ public static class SweepCommand
         {
             scenario, vary, zip, metrics, shard, resume, seed, threads, output, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
             var sweep = Sweep.Parse(s, parse.GetValue(vary) ?? [], parse.GetValue(zip), parse.GetValue(metrics));
-            SweepShard? part = parse.GetValue(shard) is { } text ? SweepShard.Parse(text) : null;
-            int? t = parse.GetValue(threads);
-            if (t is < 1) throw new InputException($"--threads {t}: must be at least 1");
+            var settings = new SweepSettings
+            {
+                Shard = parse.GetValue(shard) is { } text ? SweepShard.Parse(text) : null,
+                Resume = parse.GetValue(resume),
+                Threads = parse.GetValue(threads) ?? -1,
+            };
+            settings.Validate();
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
-            var options = new SweepRunOptions { Shard = part, Resume = parse.GetValue(resume), MaxDegreeOfParallelism = t ?? -1 };
+            var store = new SweepChunkStore(dir);
 
-            SweepRunResult result;
+            SweepResult result;
             try
             {
-                result = isQuiet || Console.IsErrorRedirected
-                    ? await SweepRunner.RunAsync(sweep, dir, options, cancel)
-                    : await WithProgress(sweep, dir, options, cancel);
+                result = isQuiet || !console.Interactive
+                    ? await SweepAnalysis.SolveAsync(sweep, settings, store, cancel)
+                    : await WithProgress(console, sweep, settings, store, cancel);
             }
             catch (OperationCanceledException)
             {
-                Cli.Error.MarkupLineInterpolated($"[yellow]stopped:[/] finished chunks are kept in {Path.Combine(dir, SweepRunner.ChunkDirectory)}; rerun with --resume to continue. No half-written file was left.");
+                console.Error.MarkupLineInterpolated($"[yellow]stopped:[/] finished chunks are kept in {Path.Combine(dir, SweepChunkStore.ChunkDirectory)}; rerun with --resume to continue. No half-written file was left.");
                 return Cli.Failure;
             }
 
-            var paths = new List<string> { result.Path };
-            if (part is null)
+            var paths = await new SweepReport().WriteAsync(result, dir, cancel);
+            if (!isQuiet)
             {
-                string png = Path.Combine(dir, "sweep.png");
-                if (SweepPlot.Save(sweep.Description, result.Rows, s.Name, png)) paths.Add(Path.GetFullPath(png));
-                else if (!isQuiet) Cli.Out.MarkupLine("[yellow]note:[/] no sweep.png for more than two multiplied axes.");
+                if (result.Shard is null && !SweepPlot.CanPlot(result.Description))
+                    console.Notes(["no sweep.png for more than two multiplied axes."]);
+                console.Out.MarkupLineInterpolated(
+                    $"{result.Rows.Count} points{(result.Shard is { } p ? $" (shard {p})" : "")}: {result.Computed} computed, {result.Resumed} kept from an earlier run, {result.Failed} failed");
+                console.Warnings(result.Warnings);
             }
-            if (!isQuiet) Summary(result, part);
-            foreach (var path in paths) Cli.Out.WriteLine(path);
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;
     }
 
-    private static async Task<SweepRunResult> WithProgress(Sweep sweep, string dir, SweepRunOptions options, CancellationToken cancel)
+    /// <summary>The library's names of the settings this command's options set.</summary>
+    private static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
-        SweepRunResult? result = null;
-        await Cli.Error.Progress()
+        ["varied parameter"] = "--vary", ["sweep"] = "--vary", ["zipped axes"] = "--zip", ["metrics"] = "--metrics",
+        ["shard"] = "--shard", ["resume"] = "--resume", ["threads"] = "--threads",
+    };
+
+    private static async Task<SweepResult> WithProgress(AppConsole console, Sweep sweep, SweepSettings settings, ISweepStore store, CancellationToken cancel)
+    {
+        SweepResult? result = null;
+        await console.Error.Progress()
             .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
             .StartAsync(async ctx =>
             {
-                var task = ctx.AddTask($"sweep {options.Shard?.ToString() ?? ""}".Trim());
-                result = await SweepRunner.RunAsync(sweep, dir, options with
+                var task = ctx.AddTask($"sweep {settings.Shard?.ToString() ?? ""}".Trim());
+                result = await SweepAnalysis.SolveAsync(sweep, settings with
                 {
                     OnStart = (total, done) => { task.MaxValue = Math.Max(total, 1); task.Value = done; },
                     OnPoint = () => task.Increment(1),
-                }, cancel);
+                }, store, cancel);
                 task.Value = task.MaxValue;
             });
         return result!;
-    }
-
-    private static void Summary(SweepRunResult result, SweepShard? part)
-    {
-        Cli.Out.MarkupLineInterpolated(
-            $"{result.Rows.Count} points{(part is { } p ? $" (shard {p})" : "")}: {result.Computed} computed, {result.Resumed} kept from an earlier run, {result.Failed} failed");
-        var failed = result.Rows.FirstOrDefault(r => r.Error.Length > 0);
-        if (failed is not null)
-            Cli.Warnings([$"{result.Failed} point(s) failed and have nulls in the metric columns; see the error column (point {failed.Point}: {failed.Error})"]);
     }
 }

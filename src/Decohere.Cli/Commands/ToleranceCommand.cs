@@ -1,34 +1,29 @@
 using Spectre.Console;
-using System.Collections.Immutable;
 using System.CommandLine;
 using System.Globalization;
-using Decohere.Analyses.Lifetime;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.IO;
-using Decohere.Numerics;
 using Decohere.Reports;
-using Decohere.Statistics;
 
 namespace Decohere.Cli.Commands;
 
 /// <summary>
-/// <c>decohere tolerance [SCENARIO] --added-noise FROM:TO:STEP --shots LIST [--delay T] [--power P] [--confidence C]
+/// <c>decohere tolerance [SCENARIO] --added-noise RANGE --shots LIST [--delay T] [--power P] [--confidence C]
 /// [--calibration-uncertainty σ] [--threshold DB] [--after STAGE] [--draws N] [--out DIR] [--quiet]</c>:
 /// which added noise and how many shots resolve the squeezing at a delay.
 /// </summary>
 public static class ToleranceCommand
 {
     /// <summary>Builds the command.</summary>
-    public static Command Create()
+    public static Command Create(AppConsole console)
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var noise = new Option<string>("--added-noise")
         {
-            Description = "Added noise grid FROM:TO:STEP in quanta per quadrature, input-referred (e.g. 0:3:0.25).",
+            Description = $"Added noise values in quanta per quadrature, input-referred, as {Ranges.Forms} (e.g. 0:3:+0.25, 13 values from 0 to 3).",
             Required = true,
         };
-        var shots = new Option<string>("--shots") { Description = "Comma-separated shot counts (e.g. 500,2000,10000).", Required = true };
+        var shots = new Option<string>("--shots") { Description = "Shot counts, comma-separated (e.g. 500,2000,1e4) or FROM:TO:+STEP.", Required = true };
         var delay = new Option<string>("--delay")
         {
             Description = "Delay after the end of the last driven stage (or --after STAGE), e.g. 2 ms (default 0).",
@@ -51,71 +46,43 @@ public static class ToleranceCommand
         {
             scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, quiet,
         };
-        command.SetAction((parse, cancel) => Cli.Guard(async () =>
+        command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var settings = new ToleranceSettings
             {
-                AddedNoise = ParseRange(parse.GetValue(noise)!, "--added-noise"),
-                Shots = ParseShots(parse.GetValue(shots)!, "--shots"),
-                DelayS = LifetimeCommand.ParseQuantity(parse.GetValue(delay)!, Dimension.Time, "--delay"),
+                AddedNoise = ToleranceSettings.ParseAddedNoise(parse.GetValue(noise)!),
+                Shots = ToleranceSettings.ParseShots(parse.GetValue(shots)!),
+                DelayS = Cli.Quantity(parse.GetValue(delay)!, Dimension.Time, "delay"),
                 TargetPower = parse.GetValue(power),
                 Confidence = parse.GetValue(confidence),
                 CalibrationUncertainty = parse.GetValue(calibration),
-                ThresholdDb = LifetimeCommand.ParseQuantity(parse.GetValue(threshold)!, Dimension.Decibel, "--threshold"),
+                ThresholdDb = Cli.Quantity(parse.GetValue(threshold)!, Dimension.Decibel, "threshold"),
                 AfterStage = parse.GetValue(after),
                 Draws = parse.GetValue(draws),
             };
             settings.Validate();
             var s = Cli.Load(parse.GetValue(scenario));
-            var result = ToleranceAnalysis.Run(s, settings, cancel);
-            var paths = await ToleranceOutput.WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var result = ToleranceAnalysis.Solve(s, settings, cancel);
+            var paths = await new ToleranceReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
             if (!parse.GetValue(quiet))
             {
-                Cli.Out.Write(PowerTable(result));
-                Cli.Out.Write(NeedsTable(result));
-                foreach (var note in result.Notes) Cli.Out.MarkupLineInterpolated($"[yellow]note:[/] {note}");
+                console.Out.Write(PowerTable(result));
+                console.Out.Write(NeedsTable(result));
+                console.Notes(result.Notes);
             }
-            foreach (var path in paths) Cli.Out.WriteLine(path);
+            console.Paths(paths);
             return Cli.Ok;
         }));
         return command;
     }
 
-    /// <summary>Parses FROM:TO:STEP (plain numbers) into the grid FROM, FROM + STEP, …, ≤ TO.</summary>
-    /// <exception cref="InputException">Malformed or empty range; the message names the option.</exception>
-    public static ImmutableArray<double> ParseRange(string text, string option)
+    /// <summary>The library's names of the settings this command's options set.</summary>
+    private static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
-        string[] parts = text.Split(':');
-        var values = new double[parts.Length];
-        for (int i = 0; i < parts.Length; i++)
-            if (!double.TryParse(parts[i].Trim(), NumberStyles.Float, CultureInfo.InvariantCulture, out values[i]) || !double.IsFinite(values[i]))
-                throw new InputException($"{option}: '{parts[i]}' is not a number; expected FROM:TO:STEP, e.g. 0:3:0.25, or one value");
-        if (parts.Length == 1) return [values[0]];
-        if (parts.Length != 3) throw new InputException($"{option}: '{text}' must be FROM:TO:STEP, e.g. 0:3:0.25, or one value");
-        var (from, to, step) = (values[0], values[1], values[2]);
-        if (!(step > 0)) throw new InputException($"{option}: STEP must be > 0 (got {step})");
-        if (to < from) throw new InputException($"{option}: TO ({to}) must be >= FROM ({from})");
-        double count = Math.Floor((to - from) / step * (1 + 1e-12) + 1e-9) + 1;
-        if (count > 100_000) throw new InputException($"{option}: the range has {count:G3} values; at most 100000");
-        return [.. Enumerable.Range(0, (int)count).Select(k => from + k * step)];
-    }
-
-    /// <summary>Parses a comma-separated list of shot counts.</summary>
-    /// <exception cref="InputException">A value is not an integer ≥ 2; the message names the option.</exception>
-    public static ImmutableArray<long> ParseShots(string text, string option)
-    {
-        var list = new List<long>();
-        foreach (var part in text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries))
-        {
-            if (!long.TryParse(part, NumberStyles.Integer, CultureInfo.InvariantCulture, out long n) &&
-                !(double.TryParse(part, NumberStyles.Float, CultureInfo.InvariantCulture, out double d) && d == Math.Floor(d) && d < 9e18 && (n = (long)d) == d))
-                throw new InputException($"{option}: '{part}' is not an integer; expected a list like 500,2000,1e4");
-            if (n < 2) throw new InputException($"{option}: {n} shots is too few; at least 2 are needed for a sample variance");
-            list.Add(n);
-        }
-        if (list.Count == 0) throw new InputException($"{option}: expected a comma-separated list of shot counts, e.g. 500,2000,10000");
-        return [.. list.Distinct()];
-    }
+        ["added noise"] = "--added-noise", ["shots"] = "--shots", ["delay"] = "--delay", ["target power"] = "--power",
+        ["confidence"] = "--confidence", ["calibration uncertainty"] = "--calibration-uncertainty", ["threshold"] = "--threshold",
+        ["reference stage"] = "--after", ["draws"] = "--draws",
+    };
 
     /// <summary>Power per added noise (rows, at most 25 shown) and shots (columns).</summary>
     public static Table PowerTable(ToleranceResult r)

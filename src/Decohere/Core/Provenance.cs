@@ -1,7 +1,4 @@
 using System.Reflection;
-using Decohere.IO;
-using Decohere.Reports;
-using Decohere.Scenarios;
 
 namespace Decohere.Core;
 
@@ -19,9 +16,15 @@ public sealed record Provenance(string ScenarioName, string ScenarioHash, string
     public static string Version { get; } =
         typeof(Provenance).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion.Split('+')[0] ?? "0.0.0";
 
-    /// <summary>Metadata for a run of a scenario with the given seed.</summary>
-    public static Provenance For(Scenario scenario, long? seed = null) =>
-        new(scenario.Name, scenario.SourceHash, scenario.SourceText, seed ?? scenario.Seed, Version);
+    /// <summary>Provenance of a result that has no scenario (a calibration from data alone).</summary>
+    public static Provenance Standalone(string name, long seed = 0) => new(name, "", "", seed, Version);
+
+    /// <summary>Reads back the pairs <see cref="ToKeyValues"/> wrote (missing keys read as empty).</summary>
+    public static Provenance FromKeyValues(IReadOnlyDictionary<string, string> kv) => new(
+        kv.GetValueOrDefault("decohere.scenario_name", ""), kv.GetValueOrDefault("decohere.scenario_sha256", ""),
+        kv.GetValueOrDefault("decohere.scenario", ""),
+        long.TryParse(kv.GetValueOrDefault("decohere.seed"), System.Globalization.NumberStyles.Integer, System.Globalization.CultureInfo.InvariantCulture, out long seed) ? seed : 0,
+        kv.GetValueOrDefault("decohere.version", ""));
 
     /// <summary>Key-value pairs for a Parquet footer.</summary>
     public IReadOnlyDictionary<string, string> ToKeyValues() => new Dictionary<string, string>

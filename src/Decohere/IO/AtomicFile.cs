@@ -1,5 +1,3 @@
-using Decohere.Core;
-using Decohere.Reports;
 
 namespace Decohere.IO;
 

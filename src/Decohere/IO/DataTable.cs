@@ -1,10 +1,7 @@
 using Parquet;
 using Parquet.Schema;
 using System.Globalization;
-using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.Statistics;
 
 namespace Decohere.IO;
 
@@ -84,7 +81,7 @@ public sealed class DataTable
     /// <exception cref="InputException">The file is missing, empty or malformed.</exception>
     public static async Task<DataTable> LoadAsync(string path, CancellationToken cancel = default)
     {
-        if (!File.Exists(path)) throw new InputException($"--data {path}: file not found");
+        if (!File.Exists(path)) throw new InputException($"data file {path}: not found");
         string name = Path.GetFileName(path);
         bool parquet;
         await using (var probe = File.OpenRead(path))

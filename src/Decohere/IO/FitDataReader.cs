@@ -1,6 +1,4 @@
 using System.Collections.Immutable;
-using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.Scenarios;
 using Decohere.Statistics;
@@ -9,7 +7,9 @@ namespace Decohere.IO;
 
 /// <summary>
 /// Reads a measured data file (CSV or Parquet) in one of the three <see cref="DataShape"/>s, detected from its columns,
-/// and checks it against the scenario's readout: every bad value is refused with its row and column.
+/// and checks it against the scenario's readout, or a calibration file of variances at known occupancies: every bad
+/// value is refused with its row and column. The readers produce plain data (<see cref="FitData"/>,
+/// <see cref="CalibrationPoint"/>) that the analyses take; they know nothing of the analyses.
 /// </summary>
 public static class FitDataReader
 {
@@ -43,7 +43,7 @@ public static class FitDataReader
         var closest = Required.OrderBy(kv => kv.Value.Count(c => !table.Has(Col(c)))).ThenBy(kv => kv.Key).First();
         var missing = closest.Value.Where(c => !table.Has(Col(c))).Select(c => Col(c) == c ? c : $"{Col(c)} (as {c})");
         throw new InputException($"{table.Source}: missing column{(missing.Count() == 1 ? "" : "s")} {string.Join(", ", missing)} for {closest.Key.ToString().ToLowerInvariant()} data; " +
-            $"the file has {found}; expected the columns of one shape ({shapes}); map other names with --column NAME=FILE_COLUMN");
+            $"the file has {found}; expected the columns of one shape ({shapes}); map other names with a column mapping NAME=FILE_COLUMN");
     }
 
     /// <summary>Validates a loaded table against the scenario.</summary>
@@ -60,7 +60,7 @@ public static class FitDataReader
         for (int r = 0; r < delays.Length; r++)
             if (delays[r] < 0 || delays[r] > span * (1 + 1e-9))
                 throw new InputException($"{table.Source} {table.RowLabel(r)}, column {DataTable.Describe(delayCol, "delay_s")}: delay {Quantity.Format(delays[r], Dimension.Time)} is outside the scenario: " +
-                    $"delays count from the start of stage '{readout.Stage}' and must lie in [0, {Quantity.Format(span, Dimension.Time)}]{(options.DelayScale == 1 ? " (in seconds; see --delay-unit)" : "")}");
+                    $"delays count from the start of stage '{readout.Stage}' and must lie in [0, {Quantity.Format(span, Dimension.Time)}]{(options.DelayScale == 1 ? " (in seconds; see the delay unit)" : "")}");
         var observations = shape switch
         {
             DataShape.Shots => Shots(table, options, readout, delays, Col),
@@ -155,5 +155,37 @@ public static class FitDataReader
             result.Add(new DelayObservation(delays[r], 0, double.NaN, double.NaN, null, 0, 0, n[r], err[r], table.RowLabel(r)));
         }
         return result;
+    }
+
+    /// <summary>Reads a calibration file: columns <c>occupancy, var_i, var_q, shots</c> (names mappable by <paramref name="options"/>).</summary>
+    public static async Task<ImmutableArray<CalibrationPoint>> ReadCalibrationAsync(string path, DataOptions? options = null, CancellationToken cancel = default) =>
+        CalibrationFromTable(await DataTable.LoadAsync(path, cancel), options ?? new DataOptions());
+
+    /// <summary>Validates a loaded calibration table.</summary>
+    /// <exception cref="InputException">A column is missing or a value is bad; the message names the row and column.</exception>
+    public static ImmutableArray<CalibrationPoint> CalibrationFromTable(DataTable table, DataOptions options)
+    {
+        string Col(string name) => options.Columns.GetValueOrDefault(name, name);
+        string[] need = ["occupancy", "var_i", "var_q", "shots"];
+        var missing = need.Where(c => !table.Has(Col(c))).ToArray();
+        if (missing.Length > 0)
+            throw new InputException($"{table.Source}: missing column{(missing.Length == 1 ? "" : "s")} {string.Join(", ", missing.Select(c => DataTable.Describe(Col(c), c)))}; " +
+                $"a calibration file has occupancy, var_i, var_q, shots; the file has {string.Join(", ", table.ColumnNames)}");
+        var n = table.Numbers(Col("occupancy"), "occupancy");
+        var vi = table.Numbers(Col("var_i"), "var_i");
+        var vq = table.Numbers(Col("var_q"), "var_q");
+        var shots = table.Numbers(Col("shots"), "shots");
+        var points = ImmutableArray.CreateBuilder<CalibrationPoint>();
+        for (int r = 0; r < table.RowCount; r++)
+        {
+            string where = $"{table.Source} {table.RowLabel(r)}, column ";
+            if (n[r] < 0) throw new InputException($"{where}{DataTable.Describe(Col("occupancy"), "occupancy")}: occupancy {n[r]} is negative; a prepared occupancy is ≥ 0");
+            foreach (var (name, v) in new[] { ("var_i", vi[r]), ("var_q", vq[r]) })
+                if (!(v > 0)) throw new InputException($"{where}{DataTable.Describe(Col(name), name)}: {(v < 0 ? "negative variance" : "variance")} {v}; a variance must be > 0");
+            if (shots[r] != Math.Floor(shots[r]) || shots[r] < 2)
+                throw new InputException($"{where}{DataTable.Describe(Col("shots"), "shots")}: {shots[r]} shots; the shot count must be a whole number ≥ 2");
+            points.Add(new CalibrationPoint(n[r], vi[r], vq[r], (long)shots[r], table.RowLabel(r)));
+        }
+        return points.ToImmutable();
     }
 }

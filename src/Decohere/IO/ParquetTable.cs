@@ -1,7 +1,5 @@
 using Parquet;
 using Parquet.Schema;
-using Decohere.Core;
-using Decohere.Reports;
 
 namespace Decohere.IO;
 

@@ -2,7 +2,6 @@ using System.Buffers.Binary;
 using System.Runtime.InteropServices;
 using System.Text;
 using Decohere.Core;
-using Decohere.Reports;
 
 namespace Decohere.IO;
 

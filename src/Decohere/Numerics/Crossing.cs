@@ -1,7 +1,4 @@
 using MathNet.Numerics.RootFinding;
-using Decohere.Analyses.Lifetime;
-using Decohere.Analyses.Tolerance;
-using Decohere.Statistics;
 
 namespace Decohere.Numerics;
 

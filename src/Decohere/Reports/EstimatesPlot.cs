@@ -1,6 +1,5 @@
 using ScottPlot;
 using System.Globalization;
-using Decohere.Core;
 using Decohere.IO;
 using Decohere.Sampling;
 using Decohere.Statistics;

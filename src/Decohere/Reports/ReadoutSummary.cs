@@ -1,7 +1,5 @@
 using System.Text.Json.Nodes;
 using Decohere.Model.Readouts;
-using Decohere.Core;
-using Decohere.IO;
 using Decohere.Sampling;
 using Decohere.Statistics;
 

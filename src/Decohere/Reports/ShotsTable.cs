@@ -1,3 +1,4 @@
+using Decohere.Analyses.Runs;
 using Decohere.Core;
 using Decohere.IO;
 using Decohere.Sampling;
@@ -8,7 +9,7 @@ namespace Decohere.Reports;
 /// shots.parquet, streamed one row group per sampler batch: <c>shot, delay_s, time_s, mode, i, q, x, p</c>
 /// (x, p the true sampled quadratures, i, q with readout noise; quanta, zero-point variance ½).
 /// </summary>
-public sealed class ShotsTable : IAsyncDisposable
+public sealed class ShotsTable : IRunStream<ShotBatch>
 {
     /// <summary>The columns, in file order.</summary>
     public static readonly ColumnSpec[] Columns =

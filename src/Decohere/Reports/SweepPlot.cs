@@ -1,7 +1,6 @@
 using ScottPlot;
 using System.Globalization;
 using Decohere.Analyses.Sweeps;
-using Decohere.Core;
 using Decohere.IO;
 
 namespace Decohere.Reports;

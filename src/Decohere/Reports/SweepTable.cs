@@ -1,5 +1,5 @@
 using Parquet;
-using Parquet.Schema;
+using System.Text.RegularExpressions;
 using Decohere.Analyses.Sweeps;
 using Decohere.Core;
 using Decohere.IO;
@@ -12,7 +12,7 @@ namespace Decohere.Reports;
 /// one nullable float64 column per metric (null where the point failed) and <c>error</c> (UTF-8, empty if none).
 /// Rows are sorted by point.
 /// </summary>
-public static class SweepTable
+public static partial class SweepTable
 {
     /// <summary>Rows per row group; fixed, so that equal rows give equal files however they were computed.</summary>
     public const int RowGroupRows = 1 << 16;
@@ -56,8 +56,19 @@ public static class SweepTable
         await table.CommitAsync();
     }
 
-    /// <summary>A sweep file read back: its footer metadata, its sweep description and its rows.</summary>
-    public sealed record Contents(string Path, IReadOnlyDictionary<string, string> Metadata, SweepDescription Description, IReadOnlyList<SweepRow> Rows);
+    [GeneratedRegex(@"^part-(?<k>\d+)-of-(?<n>\d+)\.parquet$")]
+    private static partial Regex PartPattern();
+
+    /// <summary>Reads every part file (part-K-of-N.parquet) of a sharded sweep in <paramref name="directory"/>, in name order.</summary>
+    /// <exception cref="InputException">The directory does not exist, or a part is not a sweep file.</exception>
+    public static async Task<IReadOnlyList<SweepPart>> ReadPartsAsync(string directory, CancellationToken cancel = default)
+    {
+        if (!Directory.Exists(directory)) throw new InputException($"merge: directory not found: {directory}");
+        var parts = new List<SweepPart>();
+        foreach (var file in Directory.GetFiles(directory).Where(f => PartPattern().IsMatch(Path.GetFileName(f))).Order(StringComparer.Ordinal))
+            parts.Add(await ReadAsync(file, cancel));
+        return parts;
+    }
 
     /// <summary>Reads the footer metadata only (cheap: no column data).</summary>
     /// <exception cref="InputException">Not a Parquet file, or one without a sweep description.</exception>
@@ -70,7 +81,7 @@ public static class SweepTable
 
     /// <summary>Reads a sweep file written by <see cref="WriteAsync"/>.</summary>
     /// <exception cref="InputException">Not a sweep file, or columns that do not match its description.</exception>
-    public static async Task<Contents> ReadAsync(string path, CancellationToken cancel = default)
+    public static async Task<SweepPart> ReadAsync(string path, CancellationToken cancel = default)
     {
         await using var stream = File.OpenRead(path);
         await using var reader = await Open(path, stream, cancel);
@@ -99,7 +110,7 @@ public static class SweepTable
             for (int i = 0; i < n; i++)
                 rows.Add(new SweepRow(point[i], seed[i], [.. p.Select(c => c[i])], [.. m.Select(c => c[i])], error[i] ?? ""));
         }
-        return new Contents(path, metadata, description, rows);
+        return new SweepPart(path, metadata, description, rows);
     }
 
     private static async Task<ParquetReader> Open(string path, Stream stream, CancellationToken cancel)

@@ -1,3 +1,4 @@
+using Decohere.Analyses.Runs;
 using Decohere.Core;
 using Decohere.IO;
 using Decohere.Sampling;
@@ -5,7 +6,7 @@ using Decohere.Sampling;
 namespace Decohere.Reports;
 
 /// <summary>trajectories.parquet, streamed: <c>trajectory, time_s, mode, x, p</c> for each recorded mode (quanta).</summary>
-public sealed class TrajectoriesTable : IAsyncDisposable
+public sealed class TrajectoriesTable : IRunStream<TrajectoryBatch>
 {
     /// <summary>The columns, in file order.</summary>
     public static readonly ColumnSpec[] Columns =

@@ -1,6 +1,5 @@
 using ScottPlot;
 using System.Globalization;
-using Decohere.Core;
 using Decohere.Engine;
 using Decohere.IO;
 using Decohere.Scenarios;

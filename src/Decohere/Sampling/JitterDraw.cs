@@ -1,4 +1,5 @@
 using System.Collections.Immutable;
+using Decohere.Numerics;
 using Decohere.Scenarios;
 
 namespace Decohere.Sampling;

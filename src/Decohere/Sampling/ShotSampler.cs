@@ -2,6 +2,7 @@ using System.Collections.Immutable;
 using Decohere.Model.Readouts;
 using Decohere.Core;
 using Decohere.Engine;
+using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -169,7 +170,7 @@ public sealed class ShotSampler
         var stats = new QuadratureStatistics[blocks];
         long seed = Scenario.Seed;
         Parallel.For(0L, blocks, _settings.Parallel(cancel), b =>
-            stats[b] = FoldedBlock(RandomStream.For(seed, StreamPurpose.Shots, -1 - delayIndex, b), (int)Math.Min(block, shots - b * block), l00, l01, l10, l11, m.MeanX, m.MeanP));
+            stats[b] = FoldedBlock(RandomStream.For(seed, SeedStream.Shots, -1 - delayIndex, b), (int)Math.Min(block, shots - b * block), l00, l01, l10, l11, m.MeanX, m.MeanP));
         var total = QuadratureStatistics.Empty;
         foreach (var s in stats) total = total.Merge(s);
         return total;
@@ -221,7 +222,7 @@ public sealed class ShotSampler
         public void Fill(long blockIndex, ShotBatch batch, int offset, int count)
         {
             var scenario = _owner.Scenario;
-            var random = RandomStream.For(scenario.Seed, StreamPurpose.Shots, _delay.Index, blockIndex);
+            var random = RandomStream.For(scenario.Seed, SeedStream.Shots, _delay.Index, blockIndex);
             var x = batch.X.AsSpan(offset, count);
             var p = batch.P.AsSpan(offset, count);
             var i = batch.I.AsSpan(offset, count);
@@ -233,7 +234,7 @@ public sealed class ShotSampler
                     Draw(ref random, l00, l01, l10, l11, mx, mp, s, out x[k], out p[k], out i[k], out q[k]);
                 return;
             }
-            var parameters = RandomStream.For(scenario.Seed, StreamPurpose.Jitter, _delay.Index, blockIndex);
+            var parameters = RandomStream.For(scenario.Seed, SeedStream.Jitter, _delay.Index, blockIndex);
             for (int k = 0; k < count; k++)
             {
                 var shotScenario = JitterDraw.Apply(scenario, ref parameters);

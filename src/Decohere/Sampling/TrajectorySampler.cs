@@ -1,4 +1,6 @@
 using System.Collections.Immutable;
+using Decohere.Numerics;
+using Decohere.Core;
 using Decohere.Engine;
 
 namespace Decohere.Sampling;
@@ -108,7 +110,7 @@ public sealed class TrajectorySampler
                 long firstBlock = first;
                 Parallel.For(0, nBlocks, _settings.Parallel(cancel), () => new double[normals], (b, _, z) =>
                 {
-                    var random = RandomStream.For(seed, StreamPurpose.Trajectories, firstBlock + b);
+                    var random = RandomStream.For(seed, SeedStream.Trajectories, firstBlock + b);
                     long t0 = (firstBlock + b) * block;
                     int n = (int)Math.Min(block, count - t0);
                     for (int t = 0; t < n; t++)

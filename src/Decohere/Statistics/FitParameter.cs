@@ -1,6 +1,3 @@
-using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
-using Decohere.IO;
 
 namespace Decohere.Statistics;
 

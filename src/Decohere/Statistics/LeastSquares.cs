@@ -1,7 +1,4 @@
-using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.IO;
 
 namespace Decohere.Statistics;
 

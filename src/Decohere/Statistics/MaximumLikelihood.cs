@@ -2,10 +2,7 @@ using MathNet.Numerics.Distributions;
 using MathNet.Numerics.LinearAlgebra;
 using MathNet.Numerics.Optimization;
 using System.Collections.Concurrent;
-using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.IO;
 
 namespace Decohere.Statistics;
 

@@ -1,7 +1,7 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Engine;
-using Decohere.Sampling;
 using Decohere.Core;
+using Decohere.Numerics;
 
 namespace Decohere.Statistics;
 

@@ -1,6 +1,7 @@
 using MathNet.Numerics.Distributions;
-using MathNet.Numerics.Random;
 using MathNet.Numerics.RootFinding;
+using Decohere.Core;
+using Decohere.Numerics;
 
 namespace Decohere.Statistics;
 
@@ -87,12 +88,8 @@ public static class ResolutionPower
         return hi;
     }
 
-    /// <summary>The random source of one grid point: the master seed and the point index mixed by SplitMix64 (seeded per point, so runs reproduce in any order).</summary>
-    public static System.Random PointRandom(long seed, long index)
-    {
-        ulong z = Sampling.RandomStream.SplitMix64At(seed, index);
-        return new Xoshiro256StarStar(unchecked((int)(z ^ (z >> 32))));
-    }
+    /// <summary>The random source of one grid point, seeded from (master seed, point index) by <see cref="Seeds.Derive"/>, so runs reproduce in any order.</summary>
+    public static System.Random PointRandom(long seed, long index) => new StreamRandom(Seeds.Derive(seed, SeedStream.Tolerance, index));
 
     private static double Bisect(Func<double, double> f, double a, double b)
     {

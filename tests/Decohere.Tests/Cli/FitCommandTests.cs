@@ -11,11 +11,13 @@ namespace Decohere.Tests.Cli;
 /// <summary>The fit and fit-noise commands end to end on small CSV files.</summary>
 public class FitCommandTests
 {
+    private static readonly AppConsole Console = AppConsole.Capture(TextWriter.Null, TextWriter.Null);
+
     private static RootCommand Root()
     {
         var root = new RootCommand("test");
-        root.Subcommands.Add(FitCommand.Create());
-        root.Subcommands.Add(FitNoiseCommand.Create());
+        root.Subcommands.Add(FitCommand.Create(Console));
+        root.Subcommands.Add(FitNoiseCommand.Create(Console));
         return root;
     }
 
@@ -44,7 +46,7 @@ public class FitCommandTests
             await File.WriteAllTextAsync(yaml, truth.SourceText.Replace("occupancy: 50", "occupancy: 30"));
             string outDir = Path.Combine(dir, "out");
             int code = await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csvPath, "--column", "delay_s=t_ms", "--delay-unit", "ms",
-                "--free", "modes.drum.bath.occupancy,modes.drum.linewidth", "--out", outDir, "--quiet"]);
+                "--free", "modes.drum.bath.occupancy,modes.drum.linewidth", "--out", outDir, "--quiet"], Console);
             Assert.Equal(CliApp.Ok, code);
             var json = JsonNode.Parse(await File.ReadAllTextAsync(Path.Combine(outDir, "fit.json")))!;
             var n = json["parameters"]!["modes.drum.bath.occupancy"]!;
@@ -86,7 +88,7 @@ public class FitCommandTests
             await File.WriteAllTextAsync(yaml, truth.SourceText);
             string csv = Path.Combine(dir, "bad.csv");
             await File.WriteAllTextAsync(csv, "delay_s,var_i,var_q,shots\n0,1,-1,10\n");
-            Assert.Equal(CliApp.BadInput, await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csv, "--out", dir, "--quiet"]));
+            Assert.Equal(CliApp.BadInput, await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csv, "--out", dir, "--quiet"], Console));
             Assert.False(File.Exists(Path.Combine(dir, "fit.json")));
         }
         finally
@@ -104,7 +106,7 @@ public class FitCommandTests
             // Exact variances on var = 2·(n + ½) + 1: the fit must return gain 2 and added noise 1.
             string csv = Path.Combine(dir, "cal.csv");
             await File.WriteAllTextAsync(csv, "occupancy,var_i,var_q,shots\n0,2,2,500\n1,4,4,500\n4,10,10,500\n9,20,20,500\n");
-            Assert.Equal(CliApp.Ok, await CliApp.InvokeAsync(Root(), ["fit-noise", "--data", csv, "--out", dir, "--quiet"]));
+            Assert.Equal(CliApp.Ok, await CliApp.InvokeAsync(Root(), ["fit-noise", "--data", csv, "--out", dir, "--quiet"], Console));
             var json = JsonNode.Parse(await File.ReadAllTextAsync(Path.Combine(dir, "fit-noise.json")))!;
             Assert.Equal(2, json["parameters"]!["gain"]!["value"]!.GetValue<double>(), 1e-6);
             Assert.Equal(1, json["parameters"]!["added_noise"]!["value"]!.GetValue<double>(), 1e-6);

@@ -50,6 +50,7 @@ public class InterruptTests
         Assert.Contains("stopped", await stderr);
         Assert.Empty(Directory.GetFiles(output, "*.partial-*"));
         Assert.False(File.Exists(Path.Combine(output, "shots.parquet")));
-        Assert.True(File.Exists(Path.Combine(output, "covariance.parquet")));   // finished before the stop, so kept
+        // The report writes only a finished run's result: a stopped run leaves no summary that would describe missing shots.
+        Assert.False(File.Exists(Path.Combine(output, "summary.json")));
     }
 }

@@ -1,38 +1,29 @@
-using Spectre.Console;
 using System.CommandLine;
 using System.Text.Json.Nodes;
 using Decohere.Cli.Commands;
-using Decohere.Tests.Analyses.Lifetime;
 
 using Commands = Decohere.Cli.Commands;
 
 namespace Decohere.Tests.Cli;
 
 /// <summary>End-to-end runs of <c>decohere lifetime</c> and <c>decohere tolerance</c> on the built-in demo.</summary>
-[Collection(Decohere.Tests.Cli.ConsoleCollection.Name)]
 public sealed class PlanningCommandTests : IDisposable
 {
     private readonly string _dir = Path.Combine(Path.GetTempPath(), "decohere-planning-" + Guid.NewGuid().ToString("N"));
     private readonly StringWriter _out = new(), _err = new();
-    private readonly IAnsiConsole _savedOut = Commands.Cli.Out, _savedErr = Commands.Cli.Error;
+    private readonly AppConsole _console;
 
-    public PlanningCommandTests()
-    {
-        Commands.Cli.Out = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(_out), Ansi = AnsiSupport.No });
-        Commands.Cli.Error = AnsiConsole.Create(new AnsiConsoleSettings { Out = new AnsiConsoleOutput(_err), Ansi = AnsiSupport.No });
-    }
+    public PlanningCommandTests() => _console = AppConsole.Capture(_out, _err);
 
     public void Dispose()
     {
-        Commands.Cli.Out = _savedOut;
-        Commands.Cli.Error = _savedErr;
         if (Directory.Exists(_dir)) Directory.Delete(_dir, true);
     }
 
-    private static Task<int> Invoke(params string[] args)
+    private Task<int> Invoke(params string[] args)
     {
-        var root = new RootCommand("test") { LifetimeCommand.Create(), ToleranceCommand.Create() };
-        return Commands.Cli.InvokeAsync(root, args);
+        var root = new RootCommand("test") { LifetimeCommand.Create(_console), ToleranceCommand.Create(_console) };
+        return Commands.Cli.InvokeAsync(root, args, _console);
     }
 
     private static List<object?[]> Query(string sql) => DuckDb.Query(sql);
@@ -69,7 +60,7 @@ public sealed class PlanningCommandTests : IDisposable
     [Fact]
     public async Task Tolerance_OnDemo_WritesGridWithMonteCarloColumns()
     {
-        Assert.Equal(0, await Invoke("tolerance", "--added-noise", "0:2:0.5", "--shots", "200,2000", "--delay", "2 ms",
+        Assert.Equal(0, await Invoke("tolerance", "--added-noise", "0:2:+0.5", "--shots", "200,2000", "--delay", "2 ms",
             "--calibration-uncertainty", "0.05", "--draws", "500", "--out", _dir));
         Assert.Contains("largest added noise", _out.ToString());
         string file = Path.Combine(_dir, "tolerance.parquet").Replace("'", "''");
@@ -90,10 +81,11 @@ public sealed class PlanningCommandTests : IDisposable
     }
 
     [Theory]
-    [InlineData("--added-noise", "tolerance", "--added-noise", "3:0:0.5", "--shots", "100")]
+    [InlineData("--added-noise", "tolerance", "--added-noise", "3:0:+0.5", "--shots", "100")]
     [InlineData("--added-noise", "tolerance", "--added-noise", "a:b", "--shots", "100")]
-    [InlineData("--shots", "tolerance", "--added-noise", "0:1:0.5", "--shots", "1")]
-    [InlineData("--shots", "tolerance", "--added-noise", "0:1:0.5")]
+    [InlineData("FROM:TO:+STEP", "tolerance", "--added-noise", "0:3:0.25", "--shots", "100")]
+    [InlineData("--shots", "tolerance", "--added-noise", "0:1:+0.5", "--shots", "1")]
+    [InlineData("--shots", "tolerance", "--added-noise", "0:1:+0.5")]
     [InlineData("--delay", "tolerance", "--added-noise", "1", "--shots", "100", "--delay", "3 Hz")]
     [InlineData("--power", "tolerance", "--added-noise", "1", "--shots", "100", "--power", "0")]
     [InlineData("--calibration-uncertainty", "tolerance", "--added-noise", "1", "--shots", "100", "--calibration-uncertainty", "-1")]

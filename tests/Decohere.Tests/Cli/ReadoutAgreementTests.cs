@@ -42,7 +42,7 @@ public class ReadoutAgreementTests
         Assert.Equal(0, CliProcess.Run(work, "lifetime", Example, "--out", lifetime, "--quiet").ExitCode);
         Assert.Equal(expected, Json(lifetime, "lifetime.json", "readout", "added_noise"), 1e-12 * expected);
 
-        Assert.Equal(0, CliProcess.Run(work, "tolerance", Example, "--added-noise", "0:2:0.5", "--shots", "500,2000", "--out", tolerance, "--quiet").ExitCode);
+        Assert.Equal(0, CliProcess.Run(work, "tolerance", Example, "--added-noise", "0:2:+0.5", "--shots", "500,2000", "--out", tolerance, "--quiet").ExitCode);
         Assert.Equal(expected, Json(tolerance, "tolerance.json", "readout", "added_noise"), 1e-12 * expected);
 
         // The squeezing tone does not touch the readout (the drum's bath would: it heats the drum during the pulse).
@@ -85,7 +85,7 @@ public class ReadoutAgreementTests
         {
             var scenario = template with { Readout = template.Readout! with { Shots = 4000, DelaysS = [0, 2e-3, 4e-3, 6e-3, 8e-3] }, Seed = seed };
             var data = await SyntheticData.SampledShotsAsync(scenario);
-            var fit = ScenarioFit.Run(scenario, data, ["modes.drum.bath.occupancy"], new FitSettings { Starts = 1 });
+            var fit = FitAnalysis.Solve(scenario, new FitSettings { Starts = 1, Free = ["modes.drum.bath.occupancy"] }, data);
             var n = fit.Parameters.Single();
             // The drum's bath enters the pulse (γ(n_th + ½) during the amplification), so the fitted readout follows the fit.
             Assert.Equal(ReadoutChains.For(fit.Fitted).AddedNoise, fit.Readout.AddedNoise);

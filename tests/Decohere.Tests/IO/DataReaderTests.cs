@@ -1,5 +1,4 @@
 using DuckDB.NET.Data;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;
@@ -76,7 +75,7 @@ public class DataReaderTests
 
     [Theory]
     [InlineData("delay_s,var_i,var_q\n0,1,1\n", "missing column shots", "variances")]
-    [InlineData("t,i,q\n0,1,1\n", "missing column delay_s", "--column")]
+    [InlineData("t,i,q\n0,1,1\n", "missing column delay_s", "column mapping")]
     [InlineData("delay_s,i,q\n0,1,1\n0,abc,2\n", "line 3, column i", "'abc' is not a number")]
     [InlineData("delay_s,i,q\n0,1,1\n0,NaN,2\n", "line 3, column i", "not a finite number")]
     [InlineData("delay_s,i,q\n0,1,1\n0,Infinity,2\n", "line 3, column i", "not a finite number")]
@@ -114,5 +113,5 @@ public class DataReaderTests
 
     [Fact]
     public void UnknownDelayUnitIsRefused() =>
-        Assert.Contains("--delay-unit", Assert.Throws<InputException>(() => DataOptions.Parse([], "fortnight")).Message);
+        Assert.Contains("delay unit", Assert.Throws<InputException>(() => DataOptions.Parse([], "fortnight")).Message);
 }

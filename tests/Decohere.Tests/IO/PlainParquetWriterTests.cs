@@ -1,7 +1,5 @@
 using Parquet;
-using Decohere.Core;
 using Decohere.IO;
-using Decohere.Reports;
 
 namespace Decohere.Tests.IO;
 

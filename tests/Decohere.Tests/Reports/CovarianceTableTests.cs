@@ -3,7 +3,6 @@ using Decohere.Engine;
 using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Scenarios;
-using Decohere.Tests.IO;
 
 namespace Decohere.Tests.Reports;
 

@@ -1,5 +1,4 @@
 using System.Globalization;
-using Decohere.Cli.Commands;
 using Decohere.Scenarios;
 
 namespace Decohere.Tests.Sampling;
@@ -17,7 +16,7 @@ public class OutputTablesTests
         try
         {
             var scenario = ScenarioLoader.Demo();
-            var output = await Decohere.Analyses.Runs.ScenarioRun.WriteAsync(scenario, dir.FullName, new Decohere.Analyses.Runs.RunSettings(Trajectories: 20));
+            var output = await Decohere.Tests.Reports.WriteThrough.RunAsync(scenario, dir.FullName, new Decohere.Analyses.Runs.RunSettings(Trajectories: 20));
             string shots = Path.Combine(dir.FullName, "shots.parquet"), estimates = Path.Combine(dir.FullName, "estimates.parquet");
             string trajectories = Path.Combine(dir.FullName, "trajectories.parquet");
             Assert.Contains(shots, output.Paths);
@@ -57,7 +56,7 @@ public class OutputTablesTests
         {
             using var cancel = new CancellationTokenSource();
             var scenario = ScenarioLoader.Demo();
-            var task = Decohere.Analyses.Runs.ScenarioRun.WriteAsync(scenario with { Readout = scenario.Readout! with { Shots = 3_000_000 } }, dir.FullName,
+            var task = Decohere.Tests.Reports.WriteThrough.RunAsync(scenario with { Readout = scenario.Readout! with { Shots = 3_000_000 } }, dir.FullName,
                 new Decohere.Analyses.Runs.RunSettings(Sampler: new Decohere.Sampling.SamplerSettings(BatchShots: 1 << 16)), cancel: cancel.Token);
             cancel.CancelAfter(TimeSpan.FromMilliseconds(300));
             await Assert.ThrowsAnyAsync<OperationCanceledException>(() => task);

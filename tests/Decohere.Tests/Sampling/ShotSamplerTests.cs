@@ -1,5 +1,4 @@
 using Decohere.Core;
-using Decohere.Engine;
 using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Sampling;

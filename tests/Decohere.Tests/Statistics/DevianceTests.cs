@@ -1,10 +1,8 @@
 using MathNet.Numerics.Distributions;
 using MathNet.Numerics.LinearAlgebra;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.IO;
 using Decohere.Statistics;
-using Decohere.Tests.Analyses.Fitting;
 
 namespace Decohere.Tests.Statistics;
 

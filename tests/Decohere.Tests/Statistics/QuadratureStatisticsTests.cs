@@ -1,4 +1,4 @@
-using Decohere.Sampling;
+using Decohere.Numerics;
 using Decohere.Statistics;
 
 namespace Decohere.Tests.Statistics;

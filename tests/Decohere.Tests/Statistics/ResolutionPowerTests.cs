@@ -2,7 +2,6 @@ using MathNet.Numerics.Distributions;
 using MathNet.Numerics.Integration;
 using MathNet.Numerics.Random;
 using Decohere.Statistics;
-using Decohere.Tests.Analyses.Lifetime;
 
 namespace Decohere.Tests.Statistics;
 

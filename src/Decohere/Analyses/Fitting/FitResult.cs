@@ -1,7 +1,6 @@
 using System.Collections.Immutable;
+using Decohere.Core;
 using Decohere.Model.Readouts;
-using Decohere.Analyses.Calibration;
-using Decohere.IO;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -10,6 +9,9 @@ namespace Decohere.Analyses.Fitting;
 /// <summary>Settings of a scenario fit.</summary>
 public sealed record FitSettings
 {
+    /// <summary>Parameter paths to fit (empty: the readout mode's bath occupancy and linewidth, plus the added noise for shots or variances).</summary>
+    public ImmutableArray<string> Free { get; init; } = [];
+
     /// <summary>Optimiser starts.</summary>
     public int Starts { get; init; } = 4;
 
@@ -30,19 +32,19 @@ public sealed record FitSettings
 
     /// <summary>Points of the fitted curve written for the plot.</summary>
     public int CurvePoints { get; init; } = 161;
-}
 
-/// <summary>
-/// A fitted or derived quantity: value, standard error and interval (ci_low/ci_high at the fit's confidence).
-/// An end not reached by the profile is the domain's bound (0) or unbounded (+∞) and is flagged.
-/// </summary>
-public sealed record FittedQuantity(string Name, double Value, double StandardError, double Low, double High, bool LowReached, bool HighReached, string Method);
+    /// <summary>Checks the values; errors name the setting.</summary>
+    /// <exception cref="InputException">A value is out of range.</exception>
+    public void Validate()
+    {
+        if (Starts < 1) throw new InputException($"starts: {Starts}: must be ≥ 1");
+        if (!(Confidence > 0 && Confidence < 1)) throw new InputException($"confidence: {Confidence} is out of range; allowed 0 < C < 1 (e.g. 0.95)");
+        if (CurvePoints < 2) throw new InputException($"curve points: {CurvePoints}: must be ≥ 2");
+    }
+}
 
 /// <summary>A combination of two parameters that the data do determine when the two are not separately identified.</summary>
 public sealed record IdentifiedCombination(string Name, string Expression, string First, string Second, double Correlation, FittedQuantity FittedQuantity);
-
-/// <summary>Goodness of fit: the deviance at the optimum against χ² with (statistics − parameters) degrees of freedom.</summary>
-public sealed record GoodnessOfFit(double Deviance, int DegreesOfFreedom, double ReducedChiSquare, double PValue);
 
 /// <summary>Data and model at one delay: the model's prediction and its pointwise standard deviation from the parameter covariance.</summary>
 public sealed record DelayFit(DelayObservation Data, ReadoutPrediction Model, ReadoutPrediction ModelSd);
@@ -68,4 +70,14 @@ public sealed record FitResult(
     string Likelihood,
     double Confidence,
     int Evaluations,
-    double ElapsedSeconds);
+    double ElapsedSeconds) : IAnalysisResult
+{
+    /// <inheritdoc/>
+    public Provenance Provenance { get; } = Provenance.For(Scenario);
+
+    /// <inheritdoc/>
+    public ResultStatus Status => ResultStatuses.From(Warnings);
+
+    /// <inheritdoc/>
+    public WorkStatistics Work => new(TimeSpan.FromSeconds(ElapsedSeconds), Evaluations);
+}

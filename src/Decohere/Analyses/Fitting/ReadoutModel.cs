@@ -1,10 +1,8 @@
-using Decohere.Analyses.Calibration;
 using Decohere.Core;
 using Decohere.Engine;
 using Decohere.Model.Readouts;
-using Decohere.IO;
+using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Analyses.Fitting;
 

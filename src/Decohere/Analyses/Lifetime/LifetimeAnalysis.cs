@@ -1,5 +1,4 @@
 using System.Collections.Immutable;
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.Model.Readouts;
 using Decohere.Numerics;
@@ -32,17 +31,26 @@ public sealed record LifetimeSettings
     /// <summary>Rows of the delay table.</summary>
     public int CurvePoints { get; init; } = 241;
 
+    /// <summary>Refuses a reference stage the scenario does not have, listing the stages it has.</summary>
+    /// <exception cref="InputException">Unknown stage.</exception>
+    public static void CheckReferenceStage(Scenario scenario, string? stage)
+    {
+        if (stage is not null && !scenario.Stages.Any(s => s.Name == stage))
+            throw new InputException($"reference stage: unknown stage '{stage}'; stages: {string.Join(", ", scenario.Stages.Select(s => s.Name))}");
+    }
+
     /// <summary>Variance at a threshold in dB: var = ½·10^(−dB/10).</summary>
     public static double ThresholdVariance(double db) => Physics.VarianceAtSqueezing(db);
 
-    /// <summary>Checks the values; errors name the command-line option.</summary>
-    /// <exception cref="InputException">A value is out of range.</exception>
-    public void Validate()
+    /// <summary>Checks the values, and with a scenario the reference stage; errors name the setting.</summary>
+    /// <exception cref="InputException">A value is out of range or the stage unknown.</exception>
+    public void Validate(Scenario? scenario = null)
     {
+        if (scenario is not null) CheckReferenceStage(scenario, AfterStage);
         if (!double.IsFinite(ThresholdDb) || ThresholdDb < -30 || ThresholdDb > 60)
-            throw new InputException($"--threshold: {ThresholdDb} dB is out of range; allowed -30 dB to 60 dB");
+            throw new InputException($"threshold: {ThresholdDb} dB is out of range; allowed -30 dB to 60 dB");
         if (!(Confidence > 0.5 && Confidence < 1))
-            throw new InputException($"--confidence: {Confidence} is out of range; allowed 0.5 < C < 1 (e.g. 0.95)");
+            throw new InputException($"confidence: {Confidence} is out of range; allowed 0.5 < C < 1 (e.g. 0.95)");
         if (!(RelativeTolerance > 0 && RelativeTolerance < 0.1)) throw new InputException("relative tolerance must be in (0, 0.1)");
         if (CurvePoints < 2) throw new InputException("curve points must be >= 2");
     }
@@ -99,15 +107,25 @@ public sealed record LifetimeCore(
     public double? Ratio => PhysicalLifetimeS is > 0 && ApproximateLifetimeS is > 0 ? PhysicalLifetimeS / ApproximateLifetimeS : null;
 }
 
-/// <summary>A lifetime analysis: the lifetimes, their sensitivities and the table against delay.</summary>
-public sealed record LifetimeReport(
+/// <summary>
+/// A lifetime analysis: the lifetimes, their sensitivities and the table against delay. Its warnings are the
+/// lifetimes' notes (a delay past the scenario's end, a state not squeezed at the reference…).
+/// </summary>
+public sealed record LifetimeResult(
     Scenario Scenario,
     LifetimeSettings Settings,
     LifetimeCore Core,
     ImmutableArray<LifetimeSensitivity> Sensitivities,
     ImmutableArray<double> DelaysS,
     ImmutableArray<double> VarMin,
-    ImmutableArray<double?> Power);
+    ImmutableArray<double?> Power,
+    Provenance Provenance,
+    ResultStatus Status,
+    WorkStatistics Work) : IAnalysisResult
+{
+    /// <inheritdoc/>
+    public ImmutableArray<string> Warnings => Core.Notes;
+}
 
 /// <summary>
 /// How long squeezing survives after the drives stop, physically and as a readout sees it.
@@ -130,9 +148,11 @@ public static class LifetimeAnalysis
     public const double ObservablePower = 0.5;
 
     /// <summary>Runs the analysis, with sensitivities unless the settings turn them off.</summary>
-    public static LifetimeReport Run(Scenario scenario, LifetimeSettings settings)
+    /// <exception cref="InputException">A setting is out of range or names an unknown stage or mode.</exception>
+    public static LifetimeResult Solve(Scenario scenario, LifetimeSettings settings)
     {
-        settings.Validate();
+        settings.Validate(scenario);
+        long started = System.Diagnostics.Stopwatch.GetTimestamp();
         var track = ReleaseTrack.Create(scenario, settings.AfterStage, settings.Mode);
         var core = Analyze(track, settings);
         var sensitivities = settings.Sensitivities ? Sensitivities(scenario, settings, core) : [];
@@ -154,13 +174,14 @@ public static class LifetimeAnalysis
             varMin.Add(v);
             power.Add(core.Readout is { } r ? VarianceStatistics.ResolutionProbability(v, r.AddedNoise, r.Shots, threshold, r.Confidence) : null);
         }
-        return new LifetimeReport(scenario, settings, core, sensitivities, delays.MoveToImmutable(), varMin.MoveToImmutable(), power.MoveToImmutable());
+        return new LifetimeResult(scenario, settings, core, sensitivities, delays.MoveToImmutable(), varMin.MoveToImmutable(), power.MoveToImmutable(),
+            Provenance.For(scenario), ResultStatuses.From(core.Notes), WorkStatistics.Since(started));
     }
 
     /// <summary>The lifetimes of a scenario, without sensitivities.</summary>
     public static LifetimeCore Analyze(Scenario scenario, LifetimeSettings settings)
     {
-        settings.Validate();
+        settings.Validate(scenario);
         return Analyze(ReleaseTrack.Create(scenario, settings.AfterStage, settings.Mode), settings);
     }
 

@@ -111,7 +111,7 @@ public static class Metrics
         string text = string.IsNullOrWhiteSpace(list) ? Default : list;
         var metrics = text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries).Select(m => Parse(m, template)).ToImmutableArray();
         var repeated = metrics.GroupBy(m => m.Column).FirstOrDefault(g => g.Count() > 1);
-        if (repeated is not null) throw new InputException($"--metrics: {repeated.First().Spec} is listed more than once");
+        if (repeated is not null) throw new InputException($"metrics: {repeated.First().Spec} is listed more than once");
         return metrics;
     }
 
@@ -122,11 +122,11 @@ public static class Metrics
         string name = (colon < 0 ? text : text[..colon]).Trim();
         string? argument = colon < 0 ? null : text[(colon + 1)..].Trim();
         var definition = All.FirstOrDefault(d => d.Name == name)
-            ?? throw new InputException($"--metrics: unknown metric '{name}'; metrics: {string.Join(", ", Usage)}");
+            ?? throw new InputException($"metrics: unknown metric '{name}'; metrics: {string.Join(", ", Usage)}");
         if (argument is not null && definition.Argument == MetricArgument.None)
-            throw new InputException($"--metrics: '{name}' takes no argument (got ':{argument}')");
+            throw new InputException($"metrics: '{name}' takes no argument (got ':{argument}')");
         if (argument is { Length: 0 })
-            throw new InputException($"--metrics: '{name}:' has an empty {definition.Argument.ToString().ToLowerInvariant()}");
+            throw new InputException($"metrics: '{name}:' has an empty {definition.Argument.ToString().ToLowerInvariant()}");
         return definition.Bind(template, argument);
     }
 
@@ -151,21 +151,21 @@ public static class Metrics
         }
         for (int i = 0; i < s.Stages.Length; i++)
             if (s.Stages[i].Name == arg) return i;
-        throw new InputException($"--metrics: {metric}:{arg}: no stage '{arg}'; stages: {string.Join(", ", s.Stages.Select(st => st.Name))}");
+        throw new InputException($"metrics: {metric}:{arg}: no stage '{arg}'; stages: {string.Join(", ", s.Stages.Select(st => st.Name))}");
     }
 
     private static string DefaultMode(Scenario s, string metric)
     {
         if (s.Readout is not null) return s.Readout.Mode;
         return s.Modes.FirstOrDefault(m => m.Kind == ModeKind.Mechanical)?.Name
-            ?? throw new InputException($"--metrics: {metric} needs a mechanical mode or a readout; the scenario has neither");
+            ?? throw new InputException($"metrics: {metric} needs a mechanical mode or a readout; the scenario has neither");
     }
 
     private static string ModeArgument(Scenario s, string? arg, string metric)
     {
         if (arg is null) return DefaultMode(s, metric);
         if (s.Modes.Any(m => m.Name == arg)) return arg;
-        throw new InputException($"--metrics: {metric}:{arg}: no mode '{arg}'; modes: {string.Join(", ", s.Modes.Select(m => m.Name))}");
+        throw new InputException($"metrics: {metric}:{arg}: no mode '{arg}'; modes: {string.Join(", ", s.Modes.Select(m => m.Name))}");
     }
 
     // The planning module's lifetime analysis (no sensitivities). A lifetime that does not exist (never resolved,
@@ -183,15 +183,15 @@ public static class Metrics
     private static Metric BindResolution(Scenario s, string? arg)
     {
         const string name = "resolution_probability";
-        var readout = s.Readout ?? throw new InputException($"--metrics: {name} needs a readout section in the scenario");
+        var readout = s.Readout ?? throw new InputException($"metrics: {name} needs a readout section in the scenario");
         double delay;
         if (arg is null)
         {
-            if (readout.DelaysS.Length == 0) throw new InputException($"--metrics: {name}: the readout has no delays; give one as {name}:DELAY");
+            if (readout.DelaysS.Length == 0) throw new InputException($"metrics: {name}: the readout has no delays; give one as {name}:DELAY");
             delay = readout.DelaysS[^1];
         }
         else if (!Quantity.TryParse(arg, Dimension.Time, out delay, out string? error) || delay < 0)
-            throw new InputException($"--metrics: {name}:{arg}: {error ?? "the delay must be >= 0"}");
+            throw new InputException($"metrics: {name}:{arg}: {error ?? "the delay must be >= 0"}");
         string stage = readout.Stage, mode = readout.Mode;
         string delayText = delay.ToString("R", CultureInfo.InvariantCulture);
         return new Metric($"{name}:{delayText} s", $"{name}.delay_{delayText}_s",

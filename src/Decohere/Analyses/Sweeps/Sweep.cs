@@ -2,8 +2,6 @@ using System.Collections.Immutable;
 using System.Text.Json;
 using System.Text.Json.Serialization;
 using Decohere.Core;
-using Decohere.IO;
-using Decohere.Reports;
 using Decohere.Scenarios;
 
 namespace Decohere.Analyses.Sweeps;
@@ -33,7 +31,7 @@ public sealed class Sweep
     /// <summary>Builds a sweep.</summary>
     public Sweep(Scenario template, SweepGrid grid, ImmutableArray<Metric> metrics)
     {
-        if (metrics.IsDefaultOrEmpty) throw new InputException("--metrics: give at least one metric");
+        if (metrics.IsDefaultOrEmpty) throw new InputException("metrics: give at least one metric");
         Template = template;
         Grid = grid;
         Metrics = metrics;
@@ -42,7 +40,7 @@ public sealed class Sweep
             [.. metrics.Select(m => new SweepDescription.MetricColumn(m.Spec, m.Column))]);
     }
 
-    /// <summary>Parses the command-line form: <c>--vary</c> texts, <c>--zip</c> and the <c>--metrics</c> list.</summary>
+    /// <summary>Parses the textual form: one <c>PATH=SPEC</c> per varied parameter, whether to zip the axes, and the metric list.</summary>
     /// <exception cref="InputException">Any bad part; the message names it and the allowed forms.</exception>
     public static Sweep Parse(Scenario template, IReadOnlyList<string> vary, bool zip, string? metrics)
     {
@@ -50,8 +48,8 @@ public sealed class Sweep
         return new Sweep(template, SweepGrid.Create(axes, zip), Sweeps.Metrics.ParseList(metrics, template));
     }
 
-    /// <summary>The seed of a point.</summary>
-    public long SeedOf(long point) => PointSeeds.For(Template.Seed, point);
+    /// <summary>The seed of a point: from (scenario seed, point index) only, never shards, threads or order.</summary>
+    public long SeedOf(long point) => Seeds.DeriveSeed(Template.Seed, SeedStream.SweepPoint, point);
 
     /// <summary>Footer metadata of the sweep table: the run's provenance plus the description under <see cref="MetadataKey"/>.</summary>
     public IReadOnlyDictionary<string, string> Metadata()
@@ -121,7 +119,7 @@ public sealed record SweepDescription(
     [property: JsonPropertyName("axes")] ImmutableArray<SweepDescription.Axis> Axes,
     [property: JsonPropertyName("metrics")] ImmutableArray<SweepDescription.MetricColumn> Metrics)
 {
-    /// <summary>A varied parameter: path, column, the --vary text, whether log-spaced, and its values (SI).</summary>
+    /// <summary>A varied parameter: path, column, its PATH=SPEC text, whether log-spaced, and its values (SI).</summary>
     public sealed record Axis(
         [property: JsonPropertyName("path")] string Path,
         [property: JsonPropertyName("column")] string Column,

@@ -36,16 +36,16 @@ public sealed class SweepGrid
     /// <exception cref="InputException">No axis, a repeated path, unequal zipped lengths, or too many points.</exception>
     public static SweepGrid Create(IReadOnlyList<SweepAxis> axes, bool zip)
     {
-        if (axes.Count == 0) throw new InputException($"--vary: give at least one parameter to vary ({SweepAxis.Forms})");
+        if (axes.Count == 0) throw new InputException($"sweep: give at least one parameter to vary ({SweepAxis.Forms})");
         var repeated = axes.GroupBy(a => a.Path.Text).FirstOrDefault(g => g.Count() > 1);
-        if (repeated is not null) throw new InputException($"--vary: {repeated.Key} is given {repeated.Count()} times; vary each parameter once");
+        if (repeated is not null) throw new InputException($"sweep: {repeated.Key} is given {repeated.Count()} times; vary each parameter once");
         var strides = new long[axes.Count];
         long count;
         if (zip)
         {
             count = axes[0].Values.Length;
             if (axes.Any(a => a.Values.Length != count))
-                throw new InputException($"--zip needs axes of one length; got {string.Join(", ", axes.Select(a => $"{a.Path.Text}: {a.Values.Length}"))}");
+                throw new InputException($"zipped axes: need one length; got {string.Join(", ", axes.Select(a => $"{a.Path.Text}: {a.Values.Length}"))}");
         }
         else
         {
@@ -55,7 +55,7 @@ public sealed class SweepGrid
                 strides[a] = count;
                 count = checked(count * axes[a].Values.Length);
                 if (count > MaxPoints)
-                    throw new InputException($"--vary: the grid has more than {MaxPoints:N0} points; split it into several sweeps");
+                    throw new InputException($"sweep: the grid has more than {MaxPoints:N0} points; split it into several sweeps");
             }
         }
         return new SweepGrid([.. axes], zip, count, strides);
@@ -80,15 +80,4 @@ public sealed class SweepGrid
         for (int a = 0; a < Axes.Length; a++) s = Axes[a].Path.Set(s, values[a]);
         return s;
     }
-}
-
-/// <summary>Per-point seeds that depend only on (scenario seed, point index): never on shards, threads or order.</summary>
-public static class PointSeeds
-{
-    /// <summary>
-    /// The point-th output of the SplitMix64 generator seeded with the scenario seed, kept to 63 bits so it is a
-    /// non-negative <c>long</c> (G. L. Steele, D. Lea, C. H. Flood, "Fast splittable pseudorandom number generators",
-    /// OOPSLA 2014; finaliser constants of S. Vigna's reference splitmix64.c).
-    /// </summary>
-    public static long For(long scenarioSeed, long point) => (long)(Sampling.RandomStream.SplitMix64At(scenarioSeed, point) & long.MaxValue);
 }

@@ -1,34 +1,26 @@
+using System.Diagnostics;
 using System.Text;
-using System.Text.RegularExpressions;
 using Decohere.Core;
-using Decohere.IO;
-using Decohere.Reports;
 
 namespace Decohere.Analyses.Sweeps;
 
-/// <summary>What a merge wrote: the table, its rows and description, and the part files it read.</summary>
-public sealed record SweepMergeResult(string Path, SweepDescription Description, IReadOnlyList<SweepRow> Rows, IReadOnlyList<string> Parts);
+/// <summary>One shard's table read back: where it came from, its footer metadata, its sweep description and its rows.</summary>
+public sealed record SweepPart(string Path, IReadOnlyDictionary<string, string> Metadata, SweepDescription Description, IReadOnlyList<SweepRow> Rows);
 
 /// <summary>
-/// Merges the part files of a sharded sweep (DIR/part-K-of-N.parquet) into DIR/sweep.parquet, the same table an unsharded
-/// run writes. Every point must be present exactly once and every part must describe the same sweep.
+/// Joins the parts of a sharded sweep into the result an unsharded run gives. Every point must be present exactly once
+/// and every part must describe the same sweep.
 /// </summary>
-public static partial class SweepMerge
+public static class SweepMerge
 {
-    [GeneratedRegex(@"^part-(?<k>\d+)-of-(?<n>\d+)\.parquet$")]
-    private static partial Regex PartPattern();
-
-    /// <summary>Checks and merges; writes DIR/sweep.parquet atomically.</summary>
+    /// <summary>Checks and joins the parts (read from <paramref name="directory"/>, named in messages).</summary>
     /// <exception cref="InputException">No parts, parts of different sweeps, or points missing or repeated (the message names them).</exception>
-    public static async Task<SweepMergeResult> MergeAsync(string directory, CancellationToken cancel = default)
+    public static SweepResult Solve(IReadOnlyList<SweepPart> contents, string directory)
     {
-        if (!Directory.Exists(directory)) throw new InputException($"merge: directory not found: {directory}");
-        var parts = Directory.GetFiles(directory).Where(f => PartPattern().IsMatch(Path.GetFileName(f))).Order(StringComparer.Ordinal).ToArray();
-        if (parts.Length == 0)
-            throw new InputException($"merge: no part files (part-K-of-N.parquet, written by sweep --shard K/N) in {directory}");
-
-        var contents = new List<SweepTable.Contents>();
-        foreach (var part in parts) contents.Add(await SweepTable.ReadAsync(part, cancel));
+        long started = Stopwatch.GetTimestamp();
+        if (contents.Count == 0)
+            throw new InputException($"merge: no part files (part-K-of-N.parquet, written by the shards of a sweep) in {directory}");
+        var parts = contents.Select(c => c.Path).ToArray();
         string json = contents[0].Metadata[Sweep.MetadataKey];
         var different = contents.Where(c => c.Metadata[Sweep.MetadataKey] != json).Select(c => Path.GetFileName(c.Path)).ToArray();
         if (different.Length > 0)
@@ -55,7 +47,7 @@ public static partial class SweepMerge
             {
                 message.Append($"; {missing.Count} missing: {Ranges(missing)}");
                 var shards = MissingShards(contents, missing);
-                if (shards.Length > 0) message.Append($" (run or rerun {string.Join(", ", shards.Select(s => $"--shard {s}"))})");
+                if (shards.Length > 0) message.Append($" (run or rerun {string.Join(", ", shards.Select(s => $"shard {s}"))})");
             }
             if (repeated.Count > 0)
             {
@@ -66,14 +58,13 @@ public static partial class SweepMerge
             throw new InputException(message.ToString());
         }
 
-        var metadata = contents[0].Metadata.Where(kv => kv.Key != SweepShard.MetadataKey).ToDictionary();
-        string target = Path.Combine(directory, "sweep.parquet");
-        await SweepTable.WriteAsync(target, description, rows, metadata, cancel);
-        return new SweepMergeResult(Path.GetFullPath(target), description, rows, parts);
+        var (status, warnings) = SweepResult.Judge(rows);
+        return new SweepResult(description, null, rows, 0, 0, Provenance.FromKeyValues(contents[0].Metadata), status, warnings,
+            WorkStatistics.Since(started));
     }
 
     // When every part comes from one split into N shards, the missing points name the shards to run again.
-    private static string[] MissingShards(List<SweepTable.Contents> contents, List<long> missing)
+    private static string[] MissingShards(IReadOnlyList<SweepPart> contents, List<long> missing)
     {
         var splits = contents.Select(c => c.Metadata.GetValueOrDefault(SweepShard.MetadataKey)).Distinct().ToArray();
         var counts = splits.Select(s => s is null ? -1 : SweepShard.Parse(s).Count).Distinct().ToArray();

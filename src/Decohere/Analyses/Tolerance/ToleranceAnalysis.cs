@@ -2,7 +2,6 @@ using System.Collections.Immutable;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
 using Decohere.Model.Readouts;
-using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -41,23 +40,36 @@ public sealed record ToleranceSettings
     /// <summary>Monte Carlo draws per grid point.</summary>
     public int Draws { get; init; } = 4000;
 
-    /// <summary>Checks the values; errors name the command-line option.</summary>
-    /// <exception cref="InputException">A value is out of range.</exception>
-    public void Validate()
+    /// <summary>Added noise values (quanta, no unit) in the grammar of <see cref="Ranges"/>, e.g. <c>0:3:+0.25</c>.</summary>
+    /// <exception cref="InputException">Malformed; the message names the setting.</exception>
+    public static ImmutableArray<double> ParseAddedNoise(string text) => Ranges.Parse(text, Plain, "added noise").Values;
+
+    /// <summary>Shot counts in the grammar of <see cref="Ranges"/>, e.g. <c>500,2000,1e4</c>.</summary>
+    /// <exception cref="InputException">A value is not a whole number ≥ 2; the message names the setting.</exception>
+    public static ImmutableArray<long> ParseShots(string text) => Ranges.ParseCounts(text, "shots", 2, "are needed for a sample variance");
+
+    private static double Plain(string text) =>
+        double.TryParse(text, System.Globalization.NumberStyles.Float, System.Globalization.CultureInfo.InvariantCulture, out double v) && double.IsFinite(v)
+            ? v : throw new InputException($"'{text}' is not a number");
+
+    /// <summary>Checks the values, and with a scenario the reference stage; errors name the setting.</summary>
+    /// <exception cref="InputException">A value is out of range or the stage unknown.</exception>
+    public void Validate(Scenario? scenario = null)
     {
-        if (AddedNoise.IsDefaultOrEmpty) throw new InputException("--added-noise: at least one value is needed (FROM:TO:STEP, e.g. 0:3:0.25)");
-        if (AddedNoise.Any(n => !double.IsFinite(n) || n < 0)) throw new InputException("--added-noise: values must be finite and >= 0 quanta");
-        if (Shots.IsDefaultOrEmpty) throw new InputException("--shots: at least one shot count is needed (e.g. 500,2000,10000)");
-        if (Shots.Any(n => n < 2 || n > 1_000_000_000)) throw new InputException("--shots: shot counts must be integers from 2 to 1e9");
-        if (AddedNoise.Length * (long)Shots.Length > 1_000_000) throw new InputException("--added-noise/--shots: the grid has more than 1e6 points");
-        if (!double.IsFinite(DelayS) || DelayS < 0) throw new InputException($"--delay: {DelayS} s is out of range; must be >= 0");
-        if (!(TargetPower > 0 && TargetPower < 1)) throw new InputException($"--power: {TargetPower} is out of range; allowed 0 < P < 1 (e.g. 0.9)");
-        if (!(Confidence > 0.5 && Confidence < 1)) throw new InputException($"--confidence: {Confidence} is out of range; allowed 0.5 < C < 1 (e.g. 0.95)");
+        if (scenario is not null) LifetimeSettings.CheckReferenceStage(scenario, AfterStage);
+        if (AddedNoise.IsDefaultOrEmpty) throw new InputException("added noise: at least one value is needed (e.g. 0:3:+0.25)");
+        if (AddedNoise.Any(n => !double.IsFinite(n) || n < 0)) throw new InputException("added noise: values must be finite and >= 0 quanta");
+        if (Shots.IsDefaultOrEmpty) throw new InputException("shots: at least one shot count is needed (e.g. 500,2000,10000)");
+        if (Shots.Any(n => n < 2 || n > 1_000_000_000)) throw new InputException("shots: shot counts must be integers from 2 to 1e9");
+        if (AddedNoise.Length * (long)Shots.Length > 1_000_000) throw new InputException("added noise × shots: the grid has more than 1e6 points");
+        if (!double.IsFinite(DelayS) || DelayS < 0) throw new InputException($"delay: {DelayS} s is out of range; must be >= 0");
+        if (!(TargetPower > 0 && TargetPower < 1)) throw new InputException($"target power: {TargetPower} is out of range; allowed 0 < P < 1 (e.g. 0.9)");
+        if (!(Confidence > 0.5 && Confidence < 1)) throw new InputException($"confidence: {Confidence} is out of range; allowed 0.5 < C < 1 (e.g. 0.95)");
         if (!double.IsFinite(ThresholdDb) || ThresholdDb < -30 || ThresholdDb > 60)
-            throw new InputException($"--threshold: {ThresholdDb} dB is out of range; allowed -30 dB to 60 dB");
+            throw new InputException($"threshold: {ThresholdDb} dB is out of range; allowed -30 dB to 60 dB");
         if (CalibrationUncertainty is { } s && (!double.IsFinite(s) || s < 0))
-            throw new InputException($"--calibration-uncertainty: {s} is out of range; must be >= 0 quanta");
-        if (Draws < 100 || Draws > 10_000_000) throw new InputException($"--draws: {Draws} is out of range; allowed 100 to 1e7");
+            throw new InputException($"calibration uncertainty: {s} is out of range; must be >= 0 quanta");
+        if (Draws < 100 || Draws > 10_000_000) throw new InputException($"draws: {Draws} is out of range; allowed 100 to 1e7");
     }
 }
 
@@ -67,7 +79,7 @@ public sealed record TolerancePoint(double AddedNoise, long Shots, double Power,
 /// <summary>The scenario's own readout at the delay: its added noise and shots, and the closed-form power they give.</summary>
 public sealed record ScenarioReadoutPower(IReadoutChain Chain, long Shots, double Power);
 
-/// <summary>The result of a tolerance analysis.</summary>
+/// <summary>The result of a tolerance analysis; its warnings are the notes (a delay past the scenario's end, no squeezing to resolve…).</summary>
 public sealed record ToleranceResult(
     Scenario Scenario,
     ToleranceSettings Settings,
@@ -80,8 +92,14 @@ public sealed record ToleranceResult(
     ImmutableArray<(long Shots, double? AddedNoise)> LargestAddedNoise,
     ImmutableArray<(double AddedNoise, long? Shots)> FewestShots,
     ScenarioReadoutPower? ScenarioReadout,
-    ImmutableArray<string> Notes)
+    ImmutableArray<string> Notes,
+    Provenance Provenance,
+    ResultStatus Status,
+    WorkStatistics Work) : IAnalysisResult
 {
+    /// <inheritdoc/>
+    public ImmutableArray<string> Warnings => Notes;
+
     /// <summary>Squeezing at the delay in dB.</summary>
     public double SqueezingDb => Physics.SqueezingDb(VarMin);
 }
@@ -94,9 +112,11 @@ public sealed record ToleranceResult(
 public static class ToleranceAnalysis
 {
     /// <summary>Runs the analysis. Grid point k = i_noise·|shots| + i_shots draws from <see cref="ResolutionPower.PointRandom"/>(seed, k).</summary>
-    public static ToleranceResult Run(Scenario scenario, ToleranceSettings settings, CancellationToken cancel = default)
+    /// <exception cref="InputException">A setting is out of range or names an unknown stage or mode.</exception>
+    public static ToleranceResult Solve(Scenario scenario, ToleranceSettings settings, CancellationToken cancel = default)
     {
-        settings.Validate();
+        settings.Validate(scenario);
+        long started = System.Diagnostics.Stopwatch.GetTimestamp();
         var track = ReleaseTrack.Create(scenario, settings.AfterStage, settings.Mode);
         double v = track.VarMin(settings.DelayS);
         double threshold = LifetimeSettings.ThresholdVariance(settings.ThresholdDb);
@@ -137,6 +157,6 @@ public static class ToleranceAnalysis
             own = new ScenarioReadoutPower(chain, readout.Shots, ResolutionPower.ClosedForm(v, chain.AddedNoise, readout.Shots, threshold, settings.Confidence));
         }
         return new ToleranceResult(scenario, settings, track.Mode, track.Reference, v, threshold, past, points.MoveToImmutable(),
-            largest, fewest, own, notes.ToImmutable());
+            largest, fewest, own, notes.ToImmutable(), Provenance.For(scenario), ResultStatuses.From(notes), WorkStatistics.Since(started, k));
     }
 }

@@ -1,4 +1,3 @@
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.Engine;
@@ -6,7 +5,6 @@ using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Sampling;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Fitting;
 
@@ -27,7 +25,7 @@ public class SamplerToFitTests
         {
             var scenario = demo with { Readout = demo.Readout! with { Shots = 4000, DelaysS = [0, 2e-3, 4e-3, 6e-3, 8e-3] }, Seed = seed };
             var data = await SyntheticData.SampledShotsAsync(scenario);
-            var fit = ScenarioFit.Run(scenario, data, ["modes.drum.bath.temperature", "readout.added_noise"], new FitSettings { Starts = 1 });
+            var fit = FitAnalysis.Solve(scenario, new FitSettings { Starts = 1, Free = ["modes.drum.bath.temperature", "readout.added_noise"] }, data);
             var t = fit.Parameters.Single(p => p.Name == "modes.drum.bath.temperature");
             estimates.Add(t.Value);
             sumSquaredErrors += t.StandardError * t.StandardError;

@@ -1,10 +1,7 @@
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.Numerics;
 using Decohere.Scenarios;
-using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Lifetime;
 
@@ -122,7 +119,7 @@ public class LifetimeAnalysisTests
     {
         // Common practice: a hotter bath or a broader linewidth raises Γ_th = γ n_th and shortens the lifetime; more added noise
         // shortens only the observable one; more shots lengthen only the observable one.
-        var report = LifetimeAnalysis.Run(Damped(addedNoise: 0.5, shots: 2000, bath: "temperature: 15 mK", linewidthHz: 0.15), new LifetimeSettings());
+        var report = LifetimeAnalysis.Solve(Damped(addedNoise: 0.5, shots: 2000, bath: "temperature: 15 mK", linewidthHz: 0.15), new LifetimeSettings());
         var by = report.Sensitivities.ToDictionary(s => s.Parameter);
         Assert.True(by["modes.m.bath.temperature"].PhysicalChangeS < 0);
         Assert.True(by["modes.m.linewidth"].PhysicalChangeS < 0);
@@ -134,10 +131,10 @@ public class LifetimeAnalysisTests
     }
 
     [Fact]
-    public void BadSettings_NameTheOption()
+    public void BadSettings_NameTheSetting()
     {
         var s = Damped();
-        Assert.Contains("--confidence", Assert.Throws<InputException>(() => LifetimeAnalysis.Analyze(s, new LifetimeSettings { Confidence = 1.2 })).Message);
-        Assert.Contains("--after", Assert.Throws<InputException>(() => LifetimeAnalysis.Analyze(s, new LifetimeSettings { AfterStage = "nope" })).Message);
+        Assert.Contains("confidence:", Assert.Throws<InputException>(() => LifetimeAnalysis.Analyze(s, new LifetimeSettings { Confidence = 1.2 })).Message);
+        Assert.Contains("reference stage: unknown stage 'nope'", Assert.Throws<InputException>(() => LifetimeAnalysis.Analyze(s, new LifetimeSettings { AfterStage = "nope" })).Message);
     }
 }

@@ -25,7 +25,7 @@ public class SweepMetricTests
             double rate = 2 * Math.PI * 0.15 * n;
             Assert.Equal("", row.Error);
             Assert.Equal(rate, row.Metrics[0]!.Value, rate * 1e-12);
-            Assert.Equal(PointSeeds.For(20261201, p), row.Seed);
+            Assert.Equal(Seeds.DeriveSeed(20261201, SeedStream.SweepPoint, p), row.Seed);
         }
     }
 

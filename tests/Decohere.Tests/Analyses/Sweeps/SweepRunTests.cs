@@ -1,9 +1,9 @@
 using Decohere.Analyses.Sweeps;
 using Decohere.Core;
-using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Scenarios;
 using Decohere.Tests.Cli;
+using Decohere.Tests.Reports;
 
 namespace Decohere.Tests.Analyses.Sweeps;
 
@@ -52,7 +52,7 @@ public class SweepRunTests
         Assert.All(a.Skip(9), r => { Assert.Null(r[4]); Assert.Contains("no steady state", (string)r[8]!); });
         Assert.All(a.Take(9), r => Assert.Equal("", r[8]));
         // Seeds come from (scenario seed, point) only.
-        Assert.All(a, r => Assert.Equal(PointSeeds.For(20261201, (long)r[0]!), (long)r[1]!));
+        Assert.All(a, r => Assert.Equal(Seeds.DeriveSeed(20261201, SeedStream.SweepPoint, (long)r[0]!), (long)r[1]!));
 
         var ma = Metadata(single);
         Assert.Equal(ma, Metadata(merged));
@@ -64,7 +64,7 @@ public class SweepRunTests
         File.Move(Path.Combine(parts, "part-1-of-3.parquet"), Path.Combine(dir, "aside.parquet"));
         var missing = CliProcess.Run(dir, "merge", parts);
         Assert.Equal(2, missing.ExitCode);
-        Assert.Contains("4 missing: 1, 4, 7, 10 (run or rerun --shard 1/3)", missing.Stderr);
+        Assert.Contains("4 missing: 1, 4, 7, 10 (run or rerun shard 1/3)", missing.Stderr);
         File.Move(Path.Combine(dir, "aside.parquet"), Path.Combine(parts, "part-1-of-3.parquet"));
         File.Copy(Path.Combine(parts, "part-2-of-3.parquet"), Path.Combine(parts, "part-0-of-1.parquet"));
         var repeated = CliProcess.Run(dir, "merge", parts);
@@ -80,9 +80,9 @@ public class SweepRunTests
         string dir = TestPaths.NewTempDirectory();
         var first = Sweep.Parse(demo, ["readout.added_noise=0.5,1"], false, "max_re_lambda");
         var other = Sweep.Parse(demo, ["readout.added_noise=0.5,2"], false, "max_re_lambda");
-        await SweepRunner.RunAsync(first, dir, new SweepRunOptions { Shard = new SweepShard(0, 2) });
-        await SweepRunner.RunAsync(other, dir, new SweepRunOptions { Shard = new SweepShard(1, 2) });
-        var e = await Assert.ThrowsAsync<InputException>(() => SweepMerge.MergeAsync(dir));
+        await WriteThrough.SweepAsync(first, dir, new SweepSettings { Shard = new SweepShard(0, 2) });
+        await WriteThrough.SweepAsync(other, dir, new SweepSettings { Shard = new SweepShard(1, 2) });
+        var e = await Assert.ThrowsAsync<InputException>(() => WriteThrough.MergeAsync(dir));
         Assert.Contains("part-1-of-2.parquet belongs to a different sweep", e.Message);
     }
 
@@ -95,14 +95,14 @@ public class SweepRunTests
         string dir = TestPaths.NewTempDirectory(), fresh = TestPaths.NewTempDirectory();
         using var stop = new CancellationTokenSource();
         int seen = 0;
-        var first = new SweepRunOptions
+        var first = new SweepSettings
         {
             ChunkPoints = 4,
-            MaxDegreeOfParallelism = 1,
+            Threads = 1,
             OnPoint = () => { if (Interlocked.Increment(ref seen) == 14) stop.Cancel(); },
         };
-        await Assert.ThrowsAnyAsync<OperationCanceledException>(() => SweepRunner.RunAsync(sweep, dir, first, stop.Token));
-        string chunks = Path.Combine(dir, SweepRunner.ChunkDirectory, "sweep");
+        await Assert.ThrowsAnyAsync<OperationCanceledException>(() => WriteThrough.SweepAsync(sweep, dir, first, stop.Token));
+        string chunks = Path.Combine(dir, SweepChunkStore.ChunkDirectory, "sweep");
         Assert.False(File.Exists(Path.Combine(dir, "sweep.parquet")));
         Assert.Empty(Directory.GetFiles(chunks, "*.partial-*"));
         // Three chunks of four were finished before the stop at the 14th point; the fourth was never written.
@@ -110,24 +110,24 @@ public class SweepRunTests
         Assert.Equal(12, kept);
 
         int computed = 0;
-        var second = new SweepRunOptions { Resume = true, OnPoint = () => Interlocked.Increment(ref computed) };
-        var resumed = await SweepRunner.RunAsync(sweep, dir, second);
+        var second = new SweepSettings { Resume = true, OnPoint = () => Interlocked.Increment(ref computed) };
+        var resumed = await WriteThrough.SweepAsync(sweep, dir, second);
         Assert.Equal(30 - kept, resumed.Computed);
         Assert.Equal(30 - kept, computed);
         Assert.Equal(kept, resumed.Resumed);
-        Assert.False(Directory.Exists(Path.Combine(dir, SweepRunner.ChunkDirectory)));
+        Assert.False(Directory.Exists(Path.Combine(dir, SweepChunkStore.ChunkDirectory)));
 
-        await SweepRunner.RunAsync(sweep, fresh, new SweepRunOptions());
+        await WriteThrough.SweepAsync(sweep, fresh);
         var a = Table(Path.Combine(dir, "sweep.parquet"));
         var b = Table(Path.Combine(fresh, "sweep.parquet"));
         Assert.Equal(30, a.Count);
         for (int i = 0; i < a.Count; i++) Assert.Equal(b[i], a[i]);
 
         // Resuming a finished table recomputes nothing; resuming with another grid is refused.
-        var again = await SweepRunner.RunAsync(sweep, dir, second);
+        var again = await WriteThrough.SweepAsync(sweep, dir, second);
         Assert.Equal(0, again.Computed);
         var changed = Sweep.Parse(demo, ["modes.drum.bath.temperature=1mK:60mK:7", "readout.added_noise=0.5:2:5"], false, "steady_var_min,thermal_decoherence_rate");
-        var e = await Assert.ThrowsAsync<InputException>(() => SweepRunner.RunAsync(changed, dir, second));
+        var e = await Assert.ThrowsAsync<InputException>(() => WriteThrough.SweepAsync(changed, dir, second));
         Assert.Contains("belongs to a different sweep", e.Message);
     }
 

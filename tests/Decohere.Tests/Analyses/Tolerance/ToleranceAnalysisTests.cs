@@ -1,7 +1,5 @@
-using Decohere.Analyses.Lifetime;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
-using Decohere.Numerics;
 using Decohere.Statistics;
 using Decohere.Tests.Analyses.Lifetime;
 
@@ -16,7 +14,7 @@ public class ToleranceAnalysisTests
         // the power at each grid point must be the χ² power of that variance (NIST/SEMATECH e-Handbook sec. 7.2.3).
         var scenario = LifetimeAnalysisTests.Damped(addedNoise: 0.5);
         var settings = new ToleranceSettings { AddedNoise = [0, 0.5, 1.5], Shots = [100, 1000], DelayS = 4e-4 };
-        var result = ToleranceAnalysis.Run(scenario, settings);
+        var result = ToleranceAnalysis.Solve(scenario, settings);
         double gamma = 2 * Math.PI * 2, v0 = 0.5 * Math.Pow(10, -0.6), decay = Math.Exp(-gamma * 4e-4);
         double v = decay * v0 + (1 - decay) * 30.5;
         Assert.Equal(v, result.VarMin, 1e-12);
@@ -38,8 +36,8 @@ public class ToleranceAnalysisTests
         // binomial error (NIST/SEMATECH e-Handbook sec. 7.2.3); the same seed gives the same numbers (seeded per point).
         var scenario = LifetimeAnalysisTests.Damped(addedNoise: 0.5);
         var settings = new ToleranceSettings { AddedNoise = [0.2, 1.0], Shots = [200, 800], DelayS = 2e-4, CalibrationUncertainty = 0, Draws = 4000 };
-        var a = ToleranceAnalysis.Run(scenario, settings);
-        var b = ToleranceAnalysis.Run(scenario, settings);
+        var a = ToleranceAnalysis.Solve(scenario, settings);
+        var b = ToleranceAnalysis.Solve(scenario, settings);
         foreach (var (p, q) in a.Points.Zip(b.Points))
         {
             Assert.Equal(p.PowerMc, q.PowerMc);
@@ -49,12 +47,12 @@ public class ToleranceAnalysisTests
     }
 
     [Fact]
-    public void BadGrid_NamesTheOption()
+    public void BadGrid_NamesTheSetting()
     {
         var scenario = LifetimeAnalysisTests.Damped(addedNoise: 0.5);
-        Assert.Contains("--shots", Assert.Throws<InputException>(() =>
-            ToleranceAnalysis.Run(scenario, new ToleranceSettings { AddedNoise = [1], Shots = [1] })).Message);
-        Assert.Contains("--power", Assert.Throws<InputException>(() =>
-            ToleranceAnalysis.Run(scenario, new ToleranceSettings { AddedNoise = [1], Shots = [10], TargetPower = 1.5 })).Message);
+        Assert.Contains("shots:", Assert.Throws<InputException>(() =>
+            ToleranceAnalysis.Solve(scenario, new ToleranceSettings { AddedNoise = [1], Shots = [1] })).Message);
+        Assert.Contains("target power:", Assert.Throws<InputException>(() =>
+            ToleranceAnalysis.Solve(scenario, new ToleranceSettings { AddedNoise = [1], Shots = [10], TargetPower = 1.5 })).Message);
     }
 }

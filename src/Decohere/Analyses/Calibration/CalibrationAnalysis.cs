@@ -1,17 +1,29 @@
 using MathNet.Numerics.Distributions;
 using System.Collections.Immutable;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.IO;
 using Decohere.Statistics;
 
 namespace Decohere.Analyses.Calibration;
 
-/// <summary>One calibration measurement: a prepared occupancy and the sample variances of both quadratures from N shots.</summary>
-public sealed record CalibrationPoint(double Occupancy, double VarI, double VarQ, long Shots, string Row);
+/// <summary>Settings of a noise calibration.</summary>
+public sealed record CalibrationSettings
+{
+    /// <summary>Confidence of every interval.</summary>
+    public double Confidence { get; init; } = 0.95;
+
+    /// <summary>Use both cores for starts and profiles.</summary>
+    public bool Parallel { get; init; } = true;
+
+    /// <summary>Checks the values; errors name the setting.</summary>
+    /// <exception cref="InputException">A value is out of range.</exception>
+    public void Validate()
+    {
+        if (!(Confidence > 0 && Confidence < 1)) throw new InputException($"confidence: {Confidence} is out of range; allowed 0 < C < 1 (e.g. 0.95)");
+    }
+}
 
 /// <summary>The added-noise calibration: gain and added noise with intervals, their correlation and the goodness of fit.</summary>
-public sealed record NoiseCalibrationResult(
+public sealed record CalibrationResult(
     string Source,
     ImmutableArray<CalibrationPoint> Points,
     FittedQuantity Gain,
@@ -20,7 +32,15 @@ public sealed record NoiseCalibrationResult(
     double Correlation,
     GoodnessOfFit Goodness,
     ImmutableArray<string> Warnings,
-    double Confidence);
+    double Confidence,
+    WorkStatistics Work) : IAnalysisResult
+{
+    /// <inheritdoc/>
+    public Provenance Provenance { get; } = Provenance.Standalone(Source);
+
+    /// <inheritdoc/>
+    public ResultStatus Status => ResultStatuses.From(Warnings);
+}
 
 /// <summary>
 /// Added-noise calibration against known prepared occupancies n: each quadrature's measured variance is
@@ -30,44 +50,17 @@ public sealed record NoiseCalibrationResult(
 /// sec. 7.2.3) — for a gamma response with identity link this is the weighted least squares that iterates the weights
 /// (N − 1)/(2σ⁴) to convergence (P. McCullagh, J. A. Nelder, Generalized Linear Models, 2nd ed., 1989, sec. 2.5, 8.3).
 /// </summary>
-public static class NoiseCalibration
+public static class CalibrationAnalysis
 {
-    /// <summary>Reads a calibration file: columns <c>occupancy, var_i, var_q, shots</c> (names mappable by <paramref name="options"/>).</summary>
-    public static async Task<ImmutableArray<CalibrationPoint>> ReadAsync(string path, DataOptions? options = null, CancellationToken cancel = default) =>
-        FromTable(await DataTable.LoadAsync(path, cancel), options ?? new DataOptions());
-
-    /// <summary>Validates a loaded calibration table.</summary>
-    /// <exception cref="InputException">A column is missing or a value is bad; the message names the row and column.</exception>
-    public static ImmutableArray<CalibrationPoint> FromTable(DataTable table, DataOptions options)
+    /// <summary>Fits gain and added noise to the points read from <paramref name="source"/> (named in messages).</summary>
+    /// <exception cref="InputException">A setting is out of range, or fewer than two distinct occupancies.</exception>
+    public static CalibrationResult Solve(IReadOnlyList<CalibrationPoint> points, string source = "data", CalibrationSettings? settings = null)
     {
-        string Col(string name) => options.Columns.GetValueOrDefault(name, name);
-        string[] need = ["occupancy", "var_i", "var_q", "shots"];
-        var missing = need.Where(c => !table.Has(Col(c))).ToArray();
-        if (missing.Length > 0)
-            throw new InputException($"{table.Source}: missing column{(missing.Length == 1 ? "" : "s")} {string.Join(", ", missing.Select(c => DataTable.Describe(Col(c), c)))}; " +
-                $"a calibration file has occupancy, var_i, var_q, shots; the file has {string.Join(", ", table.ColumnNames)}");
-        var n = table.Numbers(Col("occupancy"), "occupancy");
-        var vi = table.Numbers(Col("var_i"), "var_i");
-        var vq = table.Numbers(Col("var_q"), "var_q");
-        var shots = table.Numbers(Col("shots"), "shots");
-        var points = ImmutableArray.CreateBuilder<CalibrationPoint>();
-        for (int r = 0; r < table.RowCount; r++)
-        {
-            string where = $"{table.Source} {table.RowLabel(r)}, column ";
-            if (n[r] < 0) throw new InputException($"{where}{DataTable.Describe(Col("occupancy"), "occupancy")}: occupancy {n[r]} is negative; a prepared occupancy is ≥ 0");
-            foreach (var (name, v) in new[] { ("var_i", vi[r]), ("var_q", vq[r]) })
-                if (!(v > 0)) throw new InputException($"{where}{DataTable.Describe(Col(name), name)}: {(v < 0 ? "negative variance" : "variance")} {v}; a variance must be > 0");
-            if (shots[r] != Math.Floor(shots[r]) || shots[r] < 2)
-                throw new InputException($"{where}{DataTable.Describe(Col("shots"), "shots")}: {shots[r]} shots; the shot count must be a whole number ≥ 2");
-            points.Add(new CalibrationPoint(n[r], vi[r], vq[r], (long)shots[r], table.RowLabel(r)));
-        }
-        return points.ToImmutable();
-    }
-
-    /// <summary>Fits gain and added noise.</summary>
-    /// <exception cref="InputException">Fewer than two distinct occupancies.</exception>
-    public static NoiseCalibrationResult Fit(IReadOnlyList<CalibrationPoint> points, string source = "data", double confidence = 0.95, bool parallel = true)
-    {
+        settings ??= new CalibrationSettings();
+        settings.Validate();
+        long started = System.Diagnostics.Stopwatch.GetTimestamp();
+        double confidence = settings.Confidence;
+        bool parallel = settings.Parallel;
         if (points.Select(p => p.Occupancy).Distinct().Count() < 2)
             throw new InputException($"{source}: the calibration needs at least two different prepared occupancies to separate gain from added noise");
         // Start from ordinary least squares on the per-point mean variance.
@@ -109,7 +102,8 @@ public static class NoiseCalibration
         var warnings = new List<string>(ml.Warnings);
         if (dof > 0 && pValue < 1e-3)
             warnings.Add($"the linear model does not describe the calibration data well: deviance {ml.Minimum:G5} for {dof} degrees of freedom (p = {pValue:G2})");
-        return new NoiseCalibrationResult(source, [.. points], gain, added, inputReferred, ml.Correlation[0, 1],
-            new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue), [.. warnings], confidence);
+        return new CalibrationResult(source, [.. points], gain, added, inputReferred, ml.Correlation[0, 1],
+            new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue), [.. warnings], confidence,
+            WorkStatistics.Since(started, ml.Evaluations));
     }
 }

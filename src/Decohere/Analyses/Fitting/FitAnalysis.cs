@@ -3,10 +3,8 @@ using MathNet.Numerics.LinearAlgebra;
 using System.Collections.Immutable;
 using System.Diagnostics;
 using System.Globalization;
-using Decohere.Analyses.Calibration;
 using Decohere.Core;
 using Decohere.Model.Readouts;
-using Decohere.IO;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -17,7 +15,7 @@ namespace Decohere.Analyses.Fitting;
 /// engine as the model; reports standard errors, profile intervals, correlations, identified combinations, derived
 /// physics (bath temperature, thermal decoherence rate, quality factor) and the goodness of fit.
 /// </summary>
-public static class ScenarioFit
+public static class FitAnalysis
 {
     /// <summary>
     /// The default free parameters: the readout mode's bath occupancy and linewidth, plus a stated <c>readout.added_noise</c> when the
@@ -31,25 +29,26 @@ public static class ScenarioFit
         return list;
     }
 
-    /// <summary>Runs the fit.</summary>
-    /// <exception cref="InputException">A free path is unknown, repeated, not continuous, or not seen by this kind of data.</exception>
-    public static FitResult Run(Scenario scenario, FitData data, IReadOnlyList<string> free, FitSettings? settings = null)
+    /// <summary>Fits the settings' free parameters (default: <see cref="DefaultFree"/>) of <paramref name="scenario"/> to <paramref name="data"/>.</summary>
+    /// <exception cref="InputException">A setting is out of range, or a free path is unknown, repeated, not continuous, or not seen by this kind of data.</exception>
+    public static FitResult Solve(Scenario scenario, FitSettings settings, FitData data)
     {
-        settings ??= new FitSettings();
+        settings.Validate();
         var clock = Stopwatch.StartNew();
-        if (free.Count == 0) throw new InputException("--free: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
+        var free = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
+        if (free.Count == 0) throw new InputException("free parameters: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
         var paths = free.Select(f => ParameterPath.Parse(f, scenario)).ToImmutableArray();
         var repeated = paths.GroupBy(p => p.Text).FirstOrDefault(g => g.Count() > 1);
-        if (repeated is not null) throw new InputException($"--free: '{repeated.Key}' is listed twice");
+        if (repeated is not null) throw new InputException($"free parameters: '{repeated.Key}' is listed twice");
         foreach (var path in paths)
         {
-            if (path.Text == "readout.shots") throw new InputException("--free: readout.shots is a count, not a continuous parameter; it cannot be fitted");
-            if (path.Text.StartsWith("readout.", StringComparison.Ordinal) && path.Text != "readout.shots" && data.Shape == DataShape.Occupancies)
+            if (path.Text == "readout.shots") throw new InputException("free parameters: readout.shots is a count, not a continuous parameter; it cannot be fitted");
+            if (path.Text.StartsWith("readout.", StringComparison.Ordinal) && data.Shape == DataShape.Occupancies)
                 throw new InputException($"free parameters: {path.Text} does not enter occupancy data (occupancies are already noise-subtracted); fit it from shots or variances");
         }
         var model = new ReadoutModel(scenario, paths);
         var delays = data.Delays.Select(d => d.DelayS).ToArray();
-        double Objective(double[] x) => Deviance.Total(data, model.Predict(x, delays));
+        double Objective(double[] x) => DataLikelihood.Total(data, model.Predict(x, delays));
 
         var parameters = paths.Select(p => new FitParameter(p.Text, Start(p, scenario),
             p.MustBePositive ? ParameterDomain.Positive : p.IsSigned ? ParameterDomain.Real : ParameterDomain.NonNegative)).ToArray();
@@ -87,13 +86,13 @@ public static class ScenarioFit
             derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.FittedQuantity : d)];
         }
 
-        int dof = Deviance.Terms(data) - p;
+        int dof = DataLikelihood.Terms(data) - p;
         double pValue = dof > 0 ? ChiSquared.CDF(dof, ml.Minimum) is var c ? 1 - c : double.NaN : double.NaN;
         var goodness = new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue);
         if (dof > 0 && pValue < 1e-3)
             warnings.Add($"the model does not describe the data well: deviance {ml.Minimum:G5} for {dof} degrees of freedom (reduced χ² {goodness.ReducedChiSquare:G4}, p = {pValue:G2}); intervals assume the model is right");
         if (dof <= 0)
-            warnings.Add($"{Deviance.Terms(data)} statistics for {p} parameters: no degrees of freedom are left to test the fit");
+            warnings.Add($"{DataLikelihood.Terms(data)} statistics for {p} parameters: no degrees of freedom are left to test the fit");
 
         var (delayModel, delaySd) = Band(model, ml, delays);
         var delayFits = data.Delays.Select((d, k) => new DelayFit(d, delayModel[k], delaySd[k])).ToImmutableArray();
@@ -103,7 +102,7 @@ public static class ScenarioFit
         var (curveModel, curveSd) = Band(model, ml, grid);
 
         return new FitResult(scenario, fitted, ReadoutChains.For(fitted), data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
-            new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], Deviance.Describe(data),
+            new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], DataLikelihood.Describe(data),
             settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
     }
 
@@ -350,7 +349,7 @@ public static class ScenarioFit
         var parameters = ml.Parameters.Select((p, k) => k == bath
             ? new FitParameter("thermal_decoherence_rate_per_s", rate0, ParameterDomain.NonNegative)
             : p with { Start = ml.Estimates[k] }).ToArray();
-        var refit = MaximumLikelihood.Fit(x => Deviance.Total(data, model.Predict(ToOriginal(x), delays)), parameters, new MaximumLikelihoodSettings
+        var refit = MaximumLikelihood.Fit(x => DataLikelihood.Total(data, model.Predict(ToOriginal(x), delays)), parameters, new MaximumLikelihoodSettings
         {
             Starts = 1,
             Confidence = settings.Confidence,

@@ -1,7 +1,9 @@
 using MathNet.Numerics.Distributions;
-using Decohere.Sampling;
+using Decohere.Core;
+using Decohere.Numerics;
+using Decohere.Tests.Sampling;
 
-namespace Decohere.Tests.Sampling;
+namespace Decohere.Tests.Numerics;
 
 public class RandomStreamTests
 {
@@ -49,7 +51,7 @@ public class RandomStreamTests
         // Common practice: derived seeds of neighbouring (delay, block) indices must not collide.
         var seeds = new HashSet<ulong>();
         for (int d = 0; d < 20; d++)
-            for (int b = 0; b < 500; b++) seeds.Add(RandomStream.Derive(1, StreamPurpose.Shots, d, b));
+            for (int b = 0; b < 500; b++) seeds.Add(Seeds.Derive(1, SeedStream.Shots, d, b));
         Assert.Equal(20 * 500, seeds.Count);
     }
 }

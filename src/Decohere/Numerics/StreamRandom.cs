@@ -1,4 +1,4 @@
-namespace Decohere.Sampling;
+namespace Decohere.Numerics;
 
 /// <summary>A <see cref="System.Random"/> over a <see cref="RandomStream"/>, for MathNet's distribution samplers (χ², gamma).</summary>
 public sealed class StreamRandom : Random

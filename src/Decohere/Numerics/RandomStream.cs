@@ -1,8 +1,9 @@
 using System.Numerics;
 using System.Runtime.CompilerServices;
 using System.Runtime.InteropServices;
+using Decohere.Core;
 
-namespace Decohere.Sampling;
+namespace Decohere.Numerics;
 
 /// <summary>
 /// A seeded stream of uniform and standard normal deviates: the xoshiro256** generator seeded through SplitMix64
@@ -19,45 +20,14 @@ public struct RandomStream
     /// <summary>A stream whose 256-bit state is filled by SplitMix64 from <paramref name="seed"/> (the seeding Vigna recommends).</summary>
     public RandomStream(ulong seed)
     {
-        _s0 = SplitMix64(ref seed);
-        _s1 = SplitMix64(ref seed);
-        _s2 = SplitMix64(ref seed);
-        _s3 = SplitMix64(ref seed);
+        _s0 = Seeds.Next(ref seed);
+        _s1 = Seeds.Next(ref seed);
+        _s2 = Seeds.Next(ref seed);
+        _s3 = Seeds.Next(ref seed);
     }
 
-    /// <summary>
-    /// The stream for (master seed, purpose, index a, index b): each part is folded in through the SplitMix64 finaliser,
-    /// so neighbouring indices give unrelated states.
-    /// </summary>
-    public static RandomStream For(long seed, StreamPurpose purpose, long a = 0, long b = 0) => new(Derive(seed, purpose, a, b));
-
-    /// <summary>The 64-bit seed of the stream <see cref="For"/> returns.</summary>
-    public static ulong Derive(long seed, StreamPurpose purpose, long a = 0, long b = 0)
-    {
-        ulong h = Mix((ulong)seed);
-        h = Mix(h ^ (0x9E3779B97F4A7C15UL * ((ulong)purpose + 1)));
-        h = Mix(h + (ulong)a);
-        return Mix(h ^ Mix((ulong)b + 0x632BE59BD9B4E019UL));
-    }
-
-    /// <summary>One step of SplitMix64 (G. L. Steele, D. Lea, C. H. Flood, OOPSLA 2014): advances the state, returns a mixed value.</summary>
-    public static ulong SplitMix64(ref ulong state)
-    {
-        state += 0x9E3779B97F4A7C15UL;
-        return Mix(state);
-    }
-
-    /// <summary>The <paramref name="index"/>-th output (from 0) of SplitMix64 started at <paramref name="seed"/>: a per-point seed that
-    /// depends on nothing but (seed, index), so results do not depend on order, threads or shards.</summary>
-    public static ulong SplitMix64At(long seed, long index) => Mix(unchecked((ulong)seed + 0x9E3779B97F4A7C15UL * ((ulong)index + 1)));
-
-    /// <summary>The SplitMix64 output function (variant 13 of D. Stafford's 64-bit mixers).</summary>
-    public static ulong Mix(ulong z)
-    {
-        z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9UL;
-        z = (z ^ (z >> 27)) * 0x94D049BB133111EBUL;
-        return z ^ (z >> 31);
-    }
+    /// <summary>The stream of (master seed, stream, index a, index b), seeded by <see cref="Seeds.Derive"/>.</summary>
+    public static RandomStream For(long seed, SeedStream stream, long a = 0, long b = 0) => new(Seeds.Derive(seed, stream, a, b));
 
     /// <summary>The next 64 random bits (xoshiro256**).</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -128,19 +98,6 @@ public struct RandomStream
     {
         for (int k = 0; k < values.Length; k++) values[k] = NextNormal();
     }
-}
-
-/// <summary>Purposes of the independent random streams of a run (part of each stream's seed).</summary>
-public enum StreamPurpose
-{
-    /// <summary>Readout shots: (delay index, block index).</summary>
-    Shots = 1,
-    /// <summary>Sampled trajectories: (block index).</summary>
-    Trajectories = 2,
-    /// <summary>Parametric bootstrap of the estimates: (delay index).</summary>
-    Bootstrap = 3,
-    /// <summary>Per-shot device parameters: (delay index, block index).</summary>
-    Jitter = 4,
 }
 
 /// <summary>

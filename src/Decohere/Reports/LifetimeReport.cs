@@ -1,25 +1,22 @@
 using ScottPlot;
 using System.Text.Json.Nodes;
 using Decohere.Analyses.Lifetime;
-using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Numerics;
-using Decohere.Statistics;
 
 namespace Decohere.Reports;
 
 /// <summary>Writes lifetime.json, lifetime.parquet (delay_s, var_min, squeezing_db, power) and lifetime.png, each atomically.</summary>
-public static class LifetimeOutput
+public sealed class LifetimeReport : IReport<LifetimeResult>
 {
     /// <summary>Columns of lifetime.parquet; power is null when the scenario has no readout.</summary>
     public static IReadOnlyList<ColumnSpec> Columns { get; } =
         [ColumnSpec.Double("delay_s"), ColumnSpec.Double("var_min"), ColumnSpec.Double("squeezing_db"), ColumnSpec.NullableDouble("power")];
 
     /// <summary>Writes the three files into <paramref name="directory"/> and returns their paths.</summary>
-    public static async Task<IReadOnlyList<string>> WriteAsync(LifetimeReport report, string directory, CancellationToken cancel = default)
+    public async Task<IReadOnlyList<string>> WriteAsync(LifetimeResult report, string directory, CancellationToken cancel = default)
     {
-        var metadata = Provenance.For(report.Scenario);
+        var metadata = report.Provenance;
         Directory.CreateDirectory(directory);
         string json = Path.Combine(directory, "lifetime.json"), table = Path.Combine(directory, "lifetime.parquet"), png = Path.Combine(directory, "lifetime.png");
         double[] delays = [.. report.DelaysS], varMin = [.. report.VarMin];
@@ -41,7 +38,7 @@ public static class LifetimeOutput
     }
 
     /// <summary>The content of lifetime.json.</summary>
-    public static JsonObject Json(LifetimeReport report, Provenance metadata)
+    public static JsonObject Json(LifetimeResult report, Provenance metadata)
     {
         var c = report.Core;
         var root = SummaryJson.ProvenanceRoot(metadata);
@@ -96,7 +93,7 @@ public static class LifetimeOutput
         _ => "no_readout",
     };
 
-    private static Plot Plot(LifetimeReport report, double[] delays, double[] db, double?[] power)
+    private static Plot Plot(LifetimeResult report, double[] delays, double[] db, double?[] power)
     {
         var c = report.Core;
         var plot = new Plot();

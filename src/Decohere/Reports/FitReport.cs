@@ -1,7 +1,6 @@
 using ScottPlot;
 using System.Globalization;
 using System.Text.Json.Nodes;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;
@@ -9,8 +8,8 @@ using Decohere.Statistics;
 
 namespace Decohere.Reports;
 
-/// <summary>Writes a fit's fit.json, fit.parquet (per delay: data, model, residuals, intervals) and fit.png; and the noise calibration's JSON.</summary>
-public static class FitOutput
+/// <summary>Writes a fit's fit.json, fit.parquet (per delay: data, model, residuals, intervals) and fit.png.</summary>
+public sealed class FitReport : IReport<FitResult>
 {
     /// <summary>The columns of fit.parquet, in file order. Data columns are null where the data shape has no such value.</summary>
     public static readonly ColumnSpec[] Columns =
@@ -28,10 +27,10 @@ public static class FitOutput
     ];
 
     /// <summary>Writes fit.json, fit.parquet and fit.png into <paramref name="directory"/>; returns the paths.</summary>
-    public static async Task<IReadOnlyList<string>> WriteAsync(FitResult fit, string directory, CancellationToken cancel = default)
+    public async Task<IReadOnlyList<string>> WriteAsync(FitResult fit, string directory, CancellationToken cancel = default)
     {
         Directory.CreateDirectory(directory);
-        var metadata = Provenance.For(fit.Scenario);
+        var metadata = fit.Provenance;
         string json = Path.Combine(directory, "fit.json"), table = Path.Combine(directory, "fit.parquet"), png = Path.Combine(directory, "fit.png");
         await WriteTableAsync(fit, table, metadata, cancel);
         SummaryJson.Write(Json(fit, metadata), json);
@@ -40,7 +39,7 @@ public static class FitOutput
         return [json, table, png];
     }
 
-    private static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
+    internal static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
     {
         var o = new JsonObject
         {
@@ -266,28 +265,4 @@ public static class FitOutput
         multi.Layout = layout;
         AtomicFile.Write(path, tmp => multi.SavePng(tmp, 1200, 900));
     }
-
-    /// <summary>The noise-calibration JSON (fit-noise.json).</summary>
-    public static JsonObject NoiseJson(NoiseCalibrationResult r) => new()
-    {
-        ["data"] = new JsonObject { ["file"] = r.Source, ["points"] = r.Points.Length, ["shots"] = r.Points.Sum(p => p.Shots) },
-        ["model"] = "var = gain·(occupancy + 1/2) + added_noise for var_i and var_q; chi-square likelihood with shots − 1 degrees of freedom per variance",
-        ["confidence"] = r.Confidence,
-        ["parameters"] = new JsonObject
-        {
-            ["gain"] = EstimateJson(r.Gain, "measured variance units per quantum"),
-            ["added_noise"] = EstimateJson(r.AddedNoise, "measured variance units"),
-        },
-        ["derived"] = new JsonObject { ["added_noise_input_referred"] = EstimateJson(r.AddedNoiseInputReferred, "quanta") },
-        ["correlation"] = SummaryJson.Number(r.Correlation),
-        ["goodness_of_fit"] = new JsonObject
-        {
-            ["deviance"] = SummaryJson.Number(r.Goodness.Deviance),
-            ["degrees_of_freedom"] = r.Goodness.DegreesOfFreedom,
-            ["reduced_chi_square"] = SummaryJson.Number(r.Goodness.ReducedChiSquare),
-            ["p_value"] = SummaryJson.Number(r.Goodness.PValue),
-        },
-        ["version"] = Provenance.Version,
-        ["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]),
-    };
 }

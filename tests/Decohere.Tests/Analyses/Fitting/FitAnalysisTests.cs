@@ -1,5 +1,4 @@
 using MathNet.Numerics.Distributions;
-using Decohere.Analyses.Calibration;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
 using Decohere.IO;
@@ -8,7 +7,7 @@ using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Fitting;
 
-public class ScenarioFitTests
+public class FitAnalysisTests
 {
     private const double Nth = 50, LinewidthHz = 10, AddedNoise = 1.3;
     private static readonly double[] Delays = [0, 0.005, 0.01, 0.015, 0.02, 0.025, 0.03, 0.04];
@@ -60,7 +59,7 @@ public class ScenarioFitTests
             var start = SyntheticData.SingleMode(20, 4, 0.7, 0.05);
             var data = await FitDataReader.ReadAsync(path, start);
             Assert.Equal(DataShape.Shots, data.Shape);
-            var fit = ScenarioFit.Run(start, data, Free3);
+            var fit = FitAnalysis.Solve(start, new FitSettings { Free = [.. Free3] }, data);
             double[] expected = [Nth, LinewidthHz, AddedNoise];
             for (int k = 0; k < 3; k++)
             {
@@ -97,7 +96,7 @@ public class ScenarioFitTests
         Parallel.For(0, sets, new ParallelOptions { MaxDegreeOfParallelism = 2 }, seed =>
         {
             var data = SyntheticData.Variances(truth, delays, 500, 1000 + seed, withCovariance: false);
-            var fit = ScenarioFit.Run(truth, data, ["modes.drum.bath.occupancy", "modes.drum.linewidth"], settings);
+            var fit = FitAnalysis.Solve(truth, settings with { Free = ["modes.drum.bath.occupancy", "modes.drum.linewidth"] }, data);
             var n = fit.Parameters[0];
             if (n.Low <= Nth && Nth <= n.High) lock (lockObject) covered++;
         });
@@ -113,7 +112,7 @@ public class ScenarioFitTests
         var truth = SyntheticData.SingleMode(Nth, LinewidthHz, AddedNoise, 0.05);
         double[] delays = [0, 0.0002, 0.0004, 0.0006, 0.0008, 0.001];
         var data = SyntheticData.Variances(truth, delays, 20000, 7);
-        var fit = ScenarioFit.Run(truth, data, ["modes.drum.bath.occupancy", "modes.drum.linewidth"], new FitSettings { CurvePoints = 5 });
+        var fit = FitAnalysis.Solve(truth, new FitSettings { CurvePoints = 5, Free = ["modes.drum.bath.occupancy", "modes.drum.linewidth"] }, data);
         var warning = Assert.Single(fit.Warnings, w => w.Contains("not separately identified"));
         Assert.Contains("modes.drum.bath.occupancy", warning);
         Assert.Contains("modes.drum.linewidth", warning);
@@ -137,10 +136,10 @@ public class ScenarioFitTests
         var obs = Delays.Select((d, k) => new DelayObservation(d, 0, double.NaN, double.NaN, null, 0, 0,
             exact[k].Occupancy + 0.5 * Normal.Sample(rng, 0, 1), 0.5, $"row {k + 1}")).ToArray();
         var data = new FitData(DataShape.Occupancies, [.. obs], "synthetic");
-        var fit = ScenarioFit.Run(truth, data, ["modes.drum.bath.occupancy", "modes.drum.linewidth"]);
+        var fit = FitAnalysis.Solve(truth, new FitSettings { Free = ["modes.drum.bath.occupancy", "modes.drum.linewidth"] }, data);
         Assert.Equal(Delays.Length - 2, fit.Goodness.DegreesOfFreedom);
         Assert.True(Math.Abs(fit.Parameters[0].Value - Nth) < 4 * fit.Parameters[0].StandardError);
-        Assert.Throws<InputException>(() => ScenarioFit.Run(truth, data, ["readout.added_noise"]));
+        Assert.Throws<InputException>(() => FitAnalysis.Solve(truth, new FitSettings { Free = ["readout.added_noise"] }, data));
         Assert.NotNull(model);
     }
 }

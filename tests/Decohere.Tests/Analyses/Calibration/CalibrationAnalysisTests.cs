@@ -1,14 +1,11 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Analyses.Calibration;
-using Decohere.Analyses.Fitting;
 using Decohere.Core;
-using Decohere.IO;
 using Decohere.Statistics;
-using Decohere.Tests.Analyses.Fitting;
 
 namespace Decohere.Tests.Analyses.Calibration;
 
-public class NoiseCalibrationTests
+public class CalibrationAnalysisTests
 {
     private const double Gain = 2.4, Added = 3.1;
     private static readonly double[] Occupancies = [0, 0.5, 2, 5, 10, 20];
@@ -28,7 +25,7 @@ public class NoiseCalibrationTests
     public void ExactVariancesGiveTheTrueLineWithZeroDeviance()
     {
         // The χ² deviance ν(r − ln r − 1) is zero only at r = 1 (P. McCullagh, J. A. Nelder, GLM, 1989, sec. 8.3).
-        var r = NoiseCalibration.Fit(Points(1000, null), parallel: false);
+        var r = CalibrationAnalysis.Solve(Points(1000, null), settings: new CalibrationSettings { Parallel = false });
         Assert.Equal(Gain, r.Gain.Value, 1e-6 * Gain);
         Assert.Equal(Added, r.AddedNoise.Value, 1e-6 * Added);
         Assert.Equal(Added / Gain, r.AddedNoiseInputReferred.Value, 1e-6);
@@ -43,7 +40,7 @@ public class NoiseCalibrationTests
         int missGain = 0, missAdded = 0;
         for (int seed = 0; seed < 40; seed++)
         {
-            var r = NoiseCalibration.Fit(Points(2000, new Random(seed)), parallel: false);
+            var r = CalibrationAnalysis.Solve(Points(2000, new Random(seed)), settings: new CalibrationSettings { Parallel = false });
             if (!(r.Gain.Low <= Gain && Gain <= r.Gain.High)) missGain++;
             if (!(r.AddedNoise.Low <= Added && Added <= r.AddedNoise.High)) missAdded++;
             Assert.True(r.Gain.StandardError > 0 && r.AddedNoise.StandardError > 0);
@@ -55,5 +52,5 @@ public class NoiseCalibrationTests
     [Fact]
     public void OneOccupancyCannotSeparateGainFromNoise() =>
         Assert.Contains("two different prepared occupancies",
-            Assert.Throws<InputException>(() => NoiseCalibration.Fit([new CalibrationPoint(1, 2, 2, 100, "row 1"), new CalibrationPoint(1, 2.1, 2, 100, "row 2")])).Message);
+            Assert.Throws<InputException>(() => CalibrationAnalysis.Solve([new CalibrationPoint(1, 2, 2, 100, "row 1"), new CalibrationPoint(1, 2.1, 2, 100, "row 2")])).Message);
 }

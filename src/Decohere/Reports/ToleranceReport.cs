@@ -1,12 +1,9 @@
 using ScottPlot;
 using System.Globalization;
 using System.Text.Json.Nodes;
-using Decohere.Analyses.Lifetime;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Numerics;
-using Decohere.Statistics;
 
 namespace Decohere.Reports;
 
@@ -14,7 +11,7 @@ namespace Decohere.Reports;
 /// Writes tolerance.parquet (added_noise, shots, power, power_mc, power_mc_err), tolerance.json and the heat map
 /// tolerance.png with the target-power curve, each atomically.
 /// </summary>
-public static class ToleranceOutput
+public sealed class ToleranceReport : IReport<ToleranceResult>
 {
     /// <summary>Columns of tolerance.parquet; the Monte Carlo columns are null where it did not run.</summary>
     public static IReadOnlyList<ColumnSpec> Columns { get; } =
@@ -24,9 +21,9 @@ public static class ToleranceOutput
     ];
 
     /// <summary>Writes the three files into <paramref name="directory"/> and returns their paths.</summary>
-    public static async Task<IReadOnlyList<string>> WriteAsync(ToleranceResult result, string directory, CancellationToken cancel = default)
+    public async Task<IReadOnlyList<string>> WriteAsync(ToleranceResult result, string directory, CancellationToken cancel = default)
     {
-        var metadata = Provenance.For(result.Scenario);
+        var metadata = result.Provenance;
         Directory.CreateDirectory(directory);
         string json = Path.Combine(directory, "tolerance.json"), table = Path.Combine(directory, "tolerance.parquet"), png = Path.Combine(directory, "tolerance.png");
         var p = result.Points;

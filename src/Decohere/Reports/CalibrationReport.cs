@@ -1,0 +1,43 @@
+using System.Text.Json.Nodes;
+using Decohere.Analyses.Calibration;
+using Decohere.Core;
+
+namespace Decohere.Reports;
+
+/// <summary>Writes a noise calibration's fit-noise.json: gain, added noise and the input-referred added noise with intervals.</summary>
+public sealed class CalibrationReport : IReport<CalibrationResult>
+{
+    /// <inheritdoc/>
+    public Task<IReadOnlyList<string>> WriteAsync(CalibrationResult result, string directory, CancellationToken cancel = default)
+    {
+        cancel.ThrowIfCancellationRequested();
+        Directory.CreateDirectory(directory);
+        string path = Path.Combine(directory, "fit-noise.json");
+        SummaryJson.Write(Json(result), path);
+        return Task.FromResult<IReadOnlyList<string>>([path]);
+    }
+
+    /// <summary>The content of fit-noise.json.</summary>
+    public static JsonObject Json(CalibrationResult r) => new()
+    {
+        ["data"] = new JsonObject { ["file"] = r.Source, ["points"] = r.Points.Length, ["shots"] = r.Points.Sum(p => p.Shots) },
+        ["model"] = "var = gain·(occupancy + 1/2) + added_noise for var_i and var_q; chi-square likelihood with shots − 1 degrees of freedom per variance",
+        ["confidence"] = r.Confidence,
+        ["parameters"] = new JsonObject
+        {
+            ["gain"] = FitReport.EstimateJson(r.Gain, "measured variance units per quantum"),
+            ["added_noise"] = FitReport.EstimateJson(r.AddedNoise, "measured variance units"),
+        },
+        ["derived"] = new JsonObject { ["added_noise_input_referred"] = FitReport.EstimateJson(r.AddedNoiseInputReferred, "quanta") },
+        ["correlation"] = SummaryJson.Number(r.Correlation),
+        ["goodness_of_fit"] = new JsonObject
+        {
+            ["deviance"] = SummaryJson.Number(r.Goodness.Deviance),
+            ["degrees_of_freedom"] = r.Goodness.DegreesOfFreedom,
+            ["reduced_chi_square"] = SummaryJson.Number(r.Goodness.ReducedChiSquare),
+            ["p_value"] = SummaryJson.Number(r.Goodness.PValue),
+        },
+        ["version"] = Provenance.Version,
+        ["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]),
+    };
+}
