@@ -75,7 +75,7 @@ public sealed class ReleaseTrack
         {
             reference = scenario.Stages.Select((s, i) => (s, i)).FirstOrDefault(p => p.s.Name == afterStage, (null!, -1)).i;
             if (reference < 0)
-                throw new InputException($"--after: unknown stage '{afterStage}'; stages: {string.Join(", ", scenario.Stages.Select(s => s.Name))}");
+                throw new InputException($"reference stage: unknown stage '{afterStage}'; stages: {string.Join(", ", scenario.Stages.Select(s => s.Name))}");
             description = $"end of stage '{afterStage}'";
         }
         else
