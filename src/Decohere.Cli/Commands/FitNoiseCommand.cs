@@ -2,6 +2,7 @@ using Spectre.Console;
 using System.CommandLine;
 using Decohere.Analyses.Calibration;
 using Decohere.IO;
+using Decohere.Model.Readouts;
 using Decohere.Reports;
 
 namespace Decohere.Cli.Commands;
@@ -16,16 +17,18 @@ public static class FitNoiseCommand
         var columns = FitCommand.ColumnOption();
         var output = new Option<DirectoryInfo?>("--out") { Description = "Output directory (default: results/fit-noise/)." };
         var quiet = Cli.QuietOption();
+        var scenario = new Option<FileInfo?>("--scenario") { Description = "Scenario whose readout chain predicts the added noise; the calibration is compared with it." };
         var command = new Command("fit-noise", "Calibrate the readout: fit var = gain·(occupancy + ½) + added_noise to variances measured at known occupancies; write fit-noise.json.")
         {
-            data, columns, output, quiet,
+            data, columns, scenario, output, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, FitCommand.Flags, async () =>
         {
             var options = DataOptions.Parse(parse.GetValue(columns) ?? [], null);
             var file = parse.GetValue(data)!;
             var points = await FitDataReader.ReadCalibrationAsync(file.FullName, options, cancel);
-            var result = CalibrationAnalysis.Solve(points, file.Name);
+            var expected = parse.GetValue(scenario) is { } sf ? ReadoutChains.For(Cli.Load(sf)) : null;
+            var result = CalibrationAnalysis.Solve(points, file.Name, new CalibrationSettings { Expected = expected });
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
             var paths = await new CalibrationReport().WriteAsync(result, dir, cancel);
             if (!parse.GetValue(quiet))
@@ -38,6 +41,8 @@ public static class FitNoiseCommand
                         $"{(e.LowReached ? e.Low.ToString("G5") : "(0)")} – {(e.HighReached ? e.High.ToString("G5") : "∞")}");
                 console.Out.Write(table);
                 console.Out.MarkupLineInterpolated($"deviance {result.Goodness.Deviance:G5} for {result.Goodness.DegreesOfFreedom} degrees of freedom, p = {result.Goodness.PValue:G3}; correlation(gain, added_noise) = {result.Correlation:F3}");
+                if (expected is not null)
+                    console.Out.MarkupLineInterpolated($"the scenario's readout ({expected.Method}) predicts {expected.AddedNoise:G4} quanta per quadrature, input-referred");
                 console.Warnings(result.Warnings);
             }
             console.Paths(paths);

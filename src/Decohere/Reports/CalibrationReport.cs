@@ -13,7 +13,14 @@ public sealed class CalibrationReport : IReport<CalibrationResult>
         cancel.ThrowIfCancellationRequested();
         Directory.CreateDirectory(directory);
         string path = Path.Combine(directory, "fit-noise.json");
-        SummaryJson.Write(Json(result), path);
+        var json = Json(result);
+        if (result.Expected is { } expected)
+        {
+            var readout = ReadoutSummary.Chain(expected);
+            readout["within_interval"] = result.AddedNoiseInputReferred.Low <= expected.AddedNoise && expected.AddedNoise <= result.AddedNoiseInputReferred.High;
+            json["scenario_readout"] = readout;
+        }
+        SummaryJson.Write(json, path);
         return Task.FromResult<IReadOnlyList<string>>([path]);
     }
 

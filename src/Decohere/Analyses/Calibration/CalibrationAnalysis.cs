@@ -1,6 +1,7 @@
 using MathNet.Numerics.Distributions;
 using System.Collections.Immutable;
 using Decohere.Core;
+using Decohere.Model.Readouts;
 using Decohere.Statistics;
 
 namespace Decohere.Analyses.Calibration;
@@ -13,6 +14,9 @@ public sealed record CalibrationSettings
 
     /// <summary>Use both cores for starts and profiles.</summary>
     public bool Parallel { get; init; } = true;
+
+    /// <summary>The readout a scenario predicts; when given, the calibration is compared with its added noise.</summary>
+    public IReadoutChain? Expected { get; init; }
 
     /// <summary>Checks the values; errors name the setting.</summary>
     /// <exception cref="InputException">A value is out of range.</exception>
@@ -33,6 +37,7 @@ public sealed record CalibrationResult(
     GoodnessOfFit Goodness,
     ImmutableArray<string> Warnings,
     double Confidence,
+    IReadoutChain? Expected,
     WorkStatistics Work) : IAnalysisResult
 {
     /// <inheritdoc/>
@@ -102,8 +107,11 @@ public static class CalibrationAnalysis
         var warnings = new List<string>(ml.Warnings);
         if (dof > 0 && pValue < 1e-3)
             warnings.Add($"the linear model does not describe the calibration data well: deviance {ml.Minimum:G5} for {dof} degrees of freedom (p = {pValue:G2})");
+        if (settings.Expected is { } expected && !(inputReferred.Low <= expected.AddedNoise && expected.AddedNoise <= inputReferred.High))
+            warnings.Add($"the calibrated input-referred added noise {ratio:G4} quanta ({confidence:P0} interval {inputReferred.Low:G4} – {inputReferred.High:G4}) " +
+                $"does not contain the scenario readout's {expected.AddedNoise:G4} quanta ({expected.Method}); check the readout chain's efficiencies and amplifier noise");
         return new CalibrationResult(source, [.. points], gain, added, inputReferred, ml.Correlation[0, 1],
-            new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue), [.. warnings], confidence,
+            new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue), [.. warnings], confidence, settings.Expected,
             WorkStatistics.Since(started, ml.Evaluations));
     }
 }

@@ -1,6 +1,8 @@
 using MathNet.Numerics.Distributions;
 using Decohere.Analyses.Calibration;
 using Decohere.Core;
+using Decohere.Model.Readouts;
+using Decohere.Scenarios;
 using Decohere.Statistics;
 
 namespace Decohere.Tests.Analyses.Calibration;
@@ -53,4 +55,23 @@ public class CalibrationAnalysisTests
     public void OneOccupancyCannotSeparateGainFromNoise() =>
         Assert.Contains("two different prepared occupancies",
             Assert.Throws<InputException>(() => CalibrationAnalysis.Solve([new CalibrationPoint(1, 2, 2, 100, "row 1"), new CalibrationPoint(1, 2.1, 2, 100, "row 2")])).Message);
+
+    [Fact]
+    public void TheCalibrationIsComparedWithTheScenarioReadout()
+    {
+        // Exact variances give n_add/g = 3.1/2.4 quanta input-referred; a phenomenological readout of that added noise agrees,
+        // one of twice that is named in a warning (its value lies far outside the interval).
+        static IReadoutChain Stated(double n) => ReadoutChains.For(ScenarioLoader.Parse($$"""
+            name: calibration-check
+            model: effective
+            modes: { bar: { kind: mechanical, frequency: 4 MHz, linewidth: 5 Hz, bath: { occupancy: 30 } } }
+            stages: [{ name: hold, duration: 1 ms }]
+            readout: { mode: bar, added_noise: {{n.ToString("R", System.Globalization.CultureInfo.InvariantCulture)}}, shots: 100, stage: hold, delays: [0 ms] }
+            """, "calibration-check"));
+        var data = Points(2000, new Random(7));
+        var agree = CalibrationAnalysis.Solve(data, settings: new CalibrationSettings { Parallel = false, Expected = Stated(Added / Gain) });
+        Assert.DoesNotContain(agree.Warnings, w => w.Contains("scenario readout"));
+        var disagree = CalibrationAnalysis.Solve(data, settings: new CalibrationSettings { Parallel = false, Expected = Stated(2 * Added / Gain) });
+        Assert.Contains(disagree.Warnings, w => w.Contains("scenario readout"));
+    }
 }
