@@ -90,6 +90,27 @@ public class MatrixExponentialTests
         Assert.Equal(0.0, actual[1, 0]);
     }
 
+    [Theory]
+    [InlineData(0.5)] // Padé [7/7]
+    [InlineData(3.0)] // [13/13]
+    [InlineData(60.0)] // [13/13] with squaring
+    public void LargeSymmetricMatrixMatchesEigenbasis(double scale)
+    {
+        // Source: for symmetric A = S Λ Sᵀ, e^A = S e^Λ Sᵀ, with MathNet's symmetric eigensolver as the independent method;
+        // n = 150 runs the blocked product and LU.
+        var random = new Random(11);
+        const int n = 150;
+        var m = Models.RandomMatrix(random, n, n, 1.0);
+        var a = (m + m.Transpose()) * (scale / (m + m.Transpose()).L1Norm());
+        var evd = a.Evd(Symmetricity.Symmetric);
+        var expected = evd.EigenVectors * Matrix<double>.Build.DenseOfDiagonalVector(evd.EigenValues.Map(z => Math.Exp(z.Real)))
+            * evd.EigenVectors.Transpose();
+
+        var actual = MatrixExponential.Compute(a);
+
+        Assert.True(Models.RelativeDifference(actual, expected) < 1e-13 * Math.Max(1, scale), $"{Models.RelativeDifference(actual, expected):G3}");
+    }
+
     [Fact]
     public void ZeroMatrixGivesIdentity()
     {
