@@ -50,7 +50,7 @@ public static class DenseProduct
     }
 
     /// <summary>C ← α op(A) op(B) + β C in place (β = 0 ignores the old C, even NaN).</summary>
-    /// <exception cref="ArgumentException">Shapes do not conform, or C aliases A or B.</exception>
+    /// <exception cref="ArgumentException">Shapes do not conform, C aliases A or B, or C is not dense.</exception>
     public static void MultiplyInto(
         double alpha, Matrix<double> a, bool transposeA, Matrix<double> b, bool transposeB, double beta, Matrix<double> c)
     {
@@ -76,7 +76,7 @@ public static class DenseProduct
             throw new ArgumentException("c must not be one of the factors.", nameof(c));
         }
 
-        double[] ad = Dense(a), bd = Dense(b), cd = Dense(c);
+        double[] ad = DenseCopyIfNeeded(a), bd = DenseCopyIfNeeded(b), cd = Dense(c);
         Multiply(m, n, k, alpha, ad, 0, a.RowCount, transposeA, bd, 0, b.RowCount, transposeB, beta, cd, 0, m);
     }
 
@@ -106,6 +106,9 @@ public static class DenseProduct
             for (int i = j + 1; i < n; i++) x[i + j * n] = x[j + i * n];
         }
     }
+
+    private static double[] DenseCopyIfNeeded(Matrix<double> m)
+        => m.AsColumnMajorArray() ?? Matrix<double>.Build.DenseOfMatrix(m).AsColumnMajorArray();
 
     internal static double[] Dense(Matrix<double> m)
         => m.AsColumnMajorArray() ?? throw new ArgumentException("only dense matrices are supported.", nameof(m));

@@ -426,7 +426,7 @@ public static class Lyapunov
         for (int k = 0; k < MaxDoublings; k++)
         {
             powers.Add(phi);
-            Matrix<double> next = phi * phi;
+            Matrix<double> next = Product(phi, phi, false);
             // Tail after this term is Φ_{k+1} V Φ_{k+1}ᵀ, bounded by ‖Φ_{k+1}‖_F² ‖V‖.
             double tail = Validation.FrobeniusNorm(next);
             if (tail * tail <= 1e-18) break;
@@ -440,7 +440,9 @@ public static class Lyapunov
             foreach (Matrix<double> p in powers)
             {
                 // Smith (1968) doubling: V_{k+1} = V_k + Φ^{2^k} V_k (Φ^{2^k})ᵀ.
-                v = Validation.Symmetrise(v + p * v.TransposeAndMultiply(p));
+                v = n < MatrixExponential.BlockedMinDimension
+                    ? Validation.Symmetrise(v + p * v.TransposeAndMultiply(p))
+                    : DenseProduct.Congruence(p, v, v);
             }
 
             return v;
