@@ -81,7 +81,20 @@ public static class Lyapunov
     {
         ArgumentNullException.ThrowIfNull(a);
         Validation.RequireSquareFinite(a, nameof(a));
-        return RealSchur.Decompose(a).Eigenvalues;
+        return TrySchur(a)?.Eigenvalues ?? [.. a.Evd(Symmetricity.Asymmetric).EigenValues];
+    }
+
+    /// <summary>The real Schur form, or null in the rare case that the QR iteration does not converge.</summary>
+    private static RealSchur? TrySchur(Matrix<double> a)
+    {
+        try
+        {
+            return RealSchur.Decompose(a);
+        }
+        catch (InvalidOperationException)
+        {
+            return null;
+        }
     }
 
     /// <summary>‖A‖_F, the norm <see cref="Decays"/> measures rounding against.</summary>
@@ -108,6 +121,7 @@ public static class Lyapunov
     /// <param name="d">Diffusion matrix D (n×n, symmetric).</param>
     /// <param name="method">Algorithm; Automatic picks by size and falls back when the result is poor.</param>
     /// <exception cref="UnstableDynamicsException">Some eigenvalue of A has Re λ ≥ −1e-13·‖A‖_F.</exception>
+    /// <exception cref="InvalidOperationException">The method asked for cannot factorise A (eigenvectors too ill-conditioned, or no Schur form).</exception>
     /// <exception cref="ArgumentException">Shapes differ, entries are not finite, or D is not symmetric.</exception>
     public static LyapunovSolution Solve(Matrix<double> a, Matrix<double> d, LyapunovMethod method = LyapunovMethod.Automatic)
     {
@@ -126,11 +140,17 @@ public static class Lyapunov
         var warnings = new List<string>();
 
         // The Schur form gives the eigenvalues for the stability check and is the factorisation Bartels–Stewart works on.
-        RealSchur schur = RealSchur.Decompose(a);
+        RealSchur? schur = TrySchur(a);
+        if (schur is null)
+        {
+            warnings.Add("The QR iteration for the real Schur form did not converge; eigenvalues from the general eigensolver, Bartels–Stewart unavailable.");
+        }
+
+        IEnumerable<Complex> eigenvalues = schur?.Eigenvalues ?? [.. a.Evd(Symmetricity.Asymmetric).EigenValues];
         double normA = Validation.FrobeniusNorm(a);
         double maxRe = double.NegativeInfinity;
         double minAbsRe = double.PositiveInfinity;
-        foreach (Complex lambda in schur.Eigenvalues)
+        foreach (Complex lambda in eigenvalues)
         {
             maxRe = Math.Max(maxRe, lambda.Real);
             minAbsRe = Math.Min(minAbsRe, Math.Abs(lambda.Real));
@@ -151,14 +171,18 @@ public static class Lyapunov
         }
 
         LyapunovMethod chosen = method == LyapunovMethod.Automatic
-            ? (n <= KroneckerMaxDimension ? LyapunovMethod.Kronecker : LyapunovMethod.BartelsStewart)
+            ? (n <= KroneckerMaxDimension ? LyapunovMethod.Kronecker : schur is null ? LyapunovMethod.SmithDoubling : LyapunovMethod.BartelsStewart)
             : method;
+        if (chosen == LyapunovMethod.BartelsStewart && schur is null)
+        {
+            throw new InvalidOperationException("The real Schur form of A could not be computed (QR iteration did not converge); use Automatic or SmithDoubling.");
+        }
 
         Func<Matrix<double>, Matrix<double>>? solver = chosen switch
         {
             LyapunovMethod.Kronecker => KroneckerSolver(a),
             LyapunovMethod.Eigendecomposition => EigenSolver(a, a.Evd(Symmetricity.Asymmetric), warnings),
-            LyapunovMethod.BartelsStewart => BartelsStewartSolver(schur, warnings),
+            LyapunovMethod.BartelsStewart => BartelsStewartSolver(schur!, warnings),
             _ => SmithSolver(a),
         };
 
