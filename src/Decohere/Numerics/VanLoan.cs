@@ -107,7 +107,10 @@ public static class VanLoan
     /// <summary>
     /// One short step: Phi = F22ᵀ, Q = F22ᵀ F12 from F = exp([[−A, D],[0, Aᵀ]]·dt) (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978), Theorem 1).
     /// </summary>
-    /// <remarks>The exponential is taken in block triangular form: F11 = e^{−A dt} is never formed.</remarks>
+    /// <remarks>
+    /// The exponential is taken in block triangular form (four n×n products per block product instead of eight at 2n), and
+    /// F11 = e^{−A dt}, which Theorem 1 does not use, is not solved for.
+    /// </remarks>
     private static (Matrix<double> Phi, Matrix<double> Q) BlockStep(Matrix<double> a, Matrix<double> d, double dt)
     {
         int n = a.RowCount;
