@@ -119,9 +119,7 @@ public sealed class Dynamics
     {
         var model = Models[stage];
         var step = VanLoan.Discretize(model.Drift, model.Diffusion, duration);
-        var v = step.Phi * state.Covariance * step.Phi.Transpose() + step.Q;
-        v = (v + v.Transpose()) * 0.5;
-        return state with { Mean = step.Phi * state.Mean, Covariance = v };
+        return state with { Mean = step.Phi * state.Mean, Covariance = DenseProduct.Congruence(step.Phi, state.Covariance, step.Q) };
     }
 
     /// <summary>The stage running at time t (a boundary time belongs to the stage that ends there; t = 0 to the first).</summary>

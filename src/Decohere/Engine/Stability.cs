@@ -26,10 +26,10 @@ public sealed record Stability(double MaxRealPart, double MinRealPart, double Ma
     /// <summary>Growth rate (s⁻¹) of an unstable stage; zero or negative when stable.</summary>
     public double GrowthRate => MaxRealPart;
 
-    /// <summary>Eigenvalue analysis of a drift matrix (the general eigensolver, as in <see cref="Lyapunov.Solve"/>).</summary>
+    /// <summary>Eigenvalue analysis of a drift matrix (the real Schur form, as in <see cref="Lyapunov.Solve"/>).</summary>
     public static Stability Of(Matrix<double> drift)
     {
-        Complex[] eigen = [.. drift.Evd(Symmetricity.Asymmetric).EigenValues];
-        return new Stability(eigen.Max(e => e.Real), eigen.Min(e => e.Real), eigen.Max(e => Math.Abs(e.Imaginary)), drift.FrobeniusNorm());
+        Complex[] eigen = [.. Lyapunov.Eigenvalues(drift)];
+        return new Stability(eigen.Max(e => e.Real), eigen.Min(e => e.Real), eigen.Max(e => Math.Abs(e.Imaginary)), Lyapunov.DriftNorm(drift));
     }
 }

@@ -9,7 +9,7 @@ namespace Decohere.Numerics;
 /// <summary>Algorithm used for the continuous Lyapunov equation A V + V Aᵀ + D = 0.</summary>
 public enum LyapunovMethod
 {
-    /// <summary>Kronecker form for n ≤ <see cref="Lyapunov.KroneckerMaxDimension"/>, else eigendecomposition with Smith doubling as fallback.</summary>
+    /// <summary>Kronecker form for n ≤ <see cref="Lyapunov.KroneckerMaxDimension"/>, else Bartels–Stewart, with Smith doubling as fallback.</summary>
     Automatic,
 
     /// <summary>Dense LU of the symmetric (vech) Kronecker form; O(n⁶), exact for small systems even when A is defective.</summary>
@@ -20,6 +20,9 @@ public enum LyapunovMethod
 
     /// <summary>Smith's doubling on the exactly discretised system; O(n³ log(‖A‖ / min|Re λ|)), robust for non-normal A.</summary>
     SmithDoubling,
+
+    /// <summary>Real Schur form A = Z T Zᵀ and back substitution on T Y + Y Tᵀ = −Zᵀ D Z; O(n³), backward stable, defective A included.</summary>
+    BartelsStewart,
 }
 
 /// <summary>
@@ -72,8 +75,37 @@ public static class Lyapunov
     /// <param name="driftNorm">‖A‖_F, s⁻¹.</param>
     public static bool Decays(double maxRealPart, double driftNorm) => maxRealPart < -StabilityTolerance * driftNorm;
 
+    /// <summary>Eigenvalues of A from its real Schur form (G. H. Golub and C. F. Van Loan, Matrix Computations, 4th ed. (2013), alg. 7.5.2), as the solver sees them.</summary>
+    /// <exception cref="ArgumentException">A is not square or has entries that are not finite.</exception>
+    public static IReadOnlyList<Complex> Eigenvalues(Matrix<double> a)
+    {
+        ArgumentNullException.ThrowIfNull(a);
+        Validation.RequireSquareFinite(a, nameof(a));
+        return TrySchur(a)?.Eigenvalues ?? [.. a.Evd(Symmetricity.Asymmetric).EigenValues];
+    }
+
+    /// <summary>The real Schur form, or null in the rare case that the QR iteration does not converge.</summary>
+    private static RealSchur? TrySchur(Matrix<double> a)
+    {
+        try
+        {
+            return RealSchur.Decompose(a);
+        }
+        catch (InvalidOperationException)
+        {
+            return null;
+        }
+    }
+
+    /// <summary>‖A‖_F, the norm <see cref="Decays"/> measures rounding against.</summary>
+    public static double DriftNorm(Matrix<double> a)
+    {
+        ArgumentNullException.ThrowIfNull(a);
+        return Validation.FrobeniusNorm(a);
+    }
+
     /// <summary>
-    /// V with A V + V Aᵀ + D = 0 (Kronecker form for small n; else diagonalisation with Smith doubling, R. A. Smith, SIAM J. Appl. Math. 16, 198 (1968), as fallback).
+    /// V with A V + V Aᵀ + D = 0 (Kronecker form for small n; else R. H. Bartels and G. W. Stewart, Commun. ACM 15, 820 (1972), with Smith doubling, R. A. Smith, SIAM J. Appl. Math. 16, 198 (1968), as fallback).
     /// </summary>
     /// <param name="a">Drift matrix A (n×n), s⁻¹; every eigenvalue must have Re λ &lt; 0.</param>
     /// <param name="d">Diffusion matrix D (n×n, symmetric).</param>
@@ -83,12 +115,13 @@ public static class Lyapunov
     public static Matrix<double> SolveSteadyState(Matrix<double> a, Matrix<double> d) => Solve(a, d).Covariance;
 
     /// <summary>
-    /// Steady state with diagnostics; Kronecker form, diagonalisation, or Smith doubling (R. A. Smith, SIAM J. Appl. Math. 16, 198 (1968)).
+    /// Steady state with diagnostics; Kronecker form, Bartels–Stewart (R. H. Bartels and G. W. Stewart, Commun. ACM 15, 820 (1972)), diagonalisation, or Smith doubling (R. A. Smith, SIAM J. Appl. Math. 16, 198 (1968)).
     /// </summary>
     /// <param name="a">Drift matrix A (n×n), s⁻¹.</param>
     /// <param name="d">Diffusion matrix D (n×n, symmetric).</param>
     /// <param name="method">Algorithm; Automatic picks by size and falls back when the result is poor.</param>
     /// <exception cref="UnstableDynamicsException">Some eigenvalue of A has Re λ ≥ −1e-13·‖A‖_F.</exception>
+    /// <exception cref="InvalidOperationException">The method asked for cannot factorise A (eigenvectors too ill-conditioned, or no Schur form).</exception>
     /// <exception cref="ArgumentException">Shapes differ, entries are not finite, or D is not symmetric.</exception>
     public static LyapunovSolution Solve(Matrix<double> a, Matrix<double> d, LyapunovMethod method = LyapunovMethod.Automatic)
     {
@@ -106,11 +139,18 @@ public static class Lyapunov
         int n = a.RowCount;
         var warnings = new List<string>();
 
-        Evd<double> evd = a.Evd(Symmetricity.Asymmetric);
-        double normA = a.FrobeniusNorm();
+        // The Schur form gives the eigenvalues for the stability check and is the factorisation Bartels–Stewart works on.
+        RealSchur? schur = TrySchur(a);
+        if (schur is null)
+        {
+            warnings.Add("The QR iteration for the real Schur form did not converge; eigenvalues from the general eigensolver, Bartels–Stewart unavailable.");
+        }
+
+        IEnumerable<Complex> eigenvalues = schur?.Eigenvalues ?? [.. a.Evd(Symmetricity.Asymmetric).EigenValues];
+        double normA = Validation.FrobeniusNorm(a);
         double maxRe = double.NegativeInfinity;
         double minAbsRe = double.PositiveInfinity;
-        foreach (Complex lambda in evd.EigenValues)
+        foreach (Complex lambda in eigenvalues)
         {
             maxRe = Math.Max(maxRe, lambda.Real);
             minAbsRe = Math.Min(minAbsRe, Math.Abs(lambda.Real));
@@ -131,13 +171,18 @@ public static class Lyapunov
         }
 
         LyapunovMethod chosen = method == LyapunovMethod.Automatic
-            ? (n <= KroneckerMaxDimension ? LyapunovMethod.Kronecker : LyapunovMethod.Eigendecomposition)
+            ? (n <= KroneckerMaxDimension ? LyapunovMethod.Kronecker : schur is null ? LyapunovMethod.SmithDoubling : LyapunovMethod.BartelsStewart)
             : method;
+        if (chosen == LyapunovMethod.BartelsStewart && schur is null)
+        {
+            throw new InvalidOperationException("The real Schur form of A could not be computed (QR iteration did not converge); use Automatic or SmithDoubling.");
+        }
 
         Func<Matrix<double>, Matrix<double>>? solver = chosen switch
         {
             LyapunovMethod.Kronecker => KroneckerSolver(a),
-            LyapunovMethod.Eigendecomposition => EigenSolver(a, evd, warnings),
+            LyapunovMethod.Eigendecomposition => EigenSolver(a, a.Evd(Symmetricity.Asymmetric), warnings),
+            LyapunovMethod.BartelsStewart => BartelsStewartSolver(schur!, warnings),
             _ => SmithSolver(a),
         };
 
@@ -154,10 +199,10 @@ public static class Lyapunov
         }
 
         (Matrix<double> v, double residual, int steps) = SolveRefined(a, dSym, solver);
-        if (method == LyapunovMethod.Automatic && chosen == LyapunovMethod.Eigendecomposition && !(residual <= AcceptableResidual))
+        if (method == LyapunovMethod.Automatic && chosen == LyapunovMethod.BartelsStewart && !(residual <= AcceptableResidual))
         {
             warnings.Add(string.Create(CultureInfo.InvariantCulture,
-                $"Eigendecomposition residual {residual:G3} too large; fell back to Smith doubling."));
+                $"Bartels–Stewart residual {residual:G3} too large; fell back to Smith doubling."));
             chosen = LyapunovMethod.SmithDoubling;
             (v, residual, steps) = SolveRefined(a, dSym, SmithSolver(a));
         }
@@ -182,8 +227,8 @@ public static class Lyapunov
         ArgumentNullException.ThrowIfNull(d);
         Validation.RequireSameSize(a, v, nameof(a), nameof(v));
         Validation.RequireSameSize(a, d, nameof(a), nameof(d));
-        double numerator = (a * v + v.TransposeAndMultiply(a) + d).FrobeniusNorm();
-        double denominator = 2 * a.FrobeniusNorm() * v.FrobeniusNorm() + d.FrobeniusNorm();
+        double numerator = Validation.FrobeniusNorm(Product(a, v, false) + Product(v, a, true) + d);
+        double denominator = 2 * Validation.FrobeniusNorm(a) * Validation.FrobeniusNorm(v) + Validation.FrobeniusNorm(d);
         return denominator == 0 ? 0 : numerator / denominator;
     }
 
@@ -199,7 +244,7 @@ public static class Lyapunov
         for (int k = 0; k < MaxRefinementSteps && residual > 1e-15; k++)
         {
             // Residual in the exactly symmetric form A V + (A V)ᵀ + D, so the correction stays symmetric.
-            Matrix<double> av = a * v;
+            Matrix<double> av = Product(a, v, false);
             Matrix<double> r = av + av.Transpose() + d;
             Matrix<double> candidate = Validation.Symmetrise(v + solver(r));
             double candidateResidual = RelativeResidual(a, candidate, d);
@@ -262,6 +307,44 @@ public static class Lyapunov
         };
     }
 
+    /// <summary>X Y or X Yᵀ, on the blocked product from <see cref="MatrixExponential.BlockedMinDimension"/> on.</summary>
+    private static Matrix<double> Product(Matrix<double> x, Matrix<double> y, bool transposeY)
+    {
+        if (x.RowCount < MatrixExponential.BlockedMinDimension) return transposeY ? x.TransposeAndMultiply(y) : x * y;
+        return DenseProduct.Multiply(x, y, transposeB: transposeY);
+    }
+
+    /// <summary>
+    /// Solver via the real Schur form A = Z T Zᵀ: with Y = Zᵀ V Z, T Y + Y Tᵀ = −Zᵀ R Z is solved by back substitution over the
+    /// diagonal blocks of T and V = Z Y Zᵀ (R. H. Bartels and G. W. Stewart, Commun. ACM 15, 820 (1972)).
+    /// </summary>
+    private static Func<Matrix<double>, Matrix<double>> BartelsStewartSolver(RealSchur schur, List<string> warnings)
+    {
+        int n = schur.N;
+        Matrix<double> z = schur.ZMatrix();
+        bool warned = false;
+        return r =>
+        {
+            // C = −Zᵀ R Z, exactly symmetric; its column-major array is also the row-major one.
+            Matrix<double> rz = DenseProduct.Multiply(r.Storage.IsDense ? r : Matrix<double>.Build.DenseOfMatrix(r), z);
+            Matrix<double> c = Matrix<double>.Build.Dense(n, n);
+            DenseProduct.MultiplyInto(-1.0, z, true, rz, false, 0.0, c);
+            DenseProduct.MirrorUpper(c);
+            int perturbed = QuasiTriangularLyapunov.Solve(schur.T, schur.BlockStarts, DenseProduct.Dense(c), n);
+            if (perturbed > 0 && !warned)
+            {
+                warned = true;
+                warnings.Add(string.Create(CultureInfo.InvariantCulture,
+                    $"Bartels–Stewart: {perturbed} diagonal block system(s) nearly singular (λ_i + λ_j ≈ 0) and perturbed to ε·‖T‖."));
+            }
+
+            Matrix<double> zy = DenseProduct.Multiply(z, c);
+            Matrix<double> v = DenseProduct.Multiply(zy, z, transposeB: true);
+            DenseProduct.MirrorUpper(v);
+            return v;
+        };
+    }
+
     private static int VechIndex(int i, int j, int n)
     {
         if (i > j) (i, j) = (j, i);
@@ -313,7 +396,7 @@ public static class Lyapunov
         }
 
         double eigResidual = (ac * s - s * Matrix<Complex>.Build.DenseOfDiagonalVector(lambda)).FrobeniusNorm();
-        if (!(eigResidual <= 1e-10 * a.FrobeniusNorm() * Math.Sqrt(n)))
+        if (!(eigResidual <= 1e-10 * Validation.FrobeniusNorm(a) * Math.Sqrt(n)))
         {
             warnings.Add(string.Create(CultureInfo.InvariantCulture,
                 $"Computed eigenvectors of A fail ‖A S − S Λ‖_F ≤ 1e-10·‖A‖_F·√n (got {eigResidual:G3}); used Smith doubling instead of diagonalisation."));
@@ -367,9 +450,9 @@ public static class Lyapunov
         for (int k = 0; k < MaxDoublings; k++)
         {
             powers.Add(phi);
-            Matrix<double> next = phi * phi;
+            Matrix<double> next = Product(phi, phi, false);
             // Tail after this term is Φ_{k+1} V Φ_{k+1}ᵀ, bounded by ‖Φ_{k+1}‖_F² ‖V‖.
-            double tail = next.FrobeniusNorm();
+            double tail = Validation.FrobeniusNorm(next);
             if (tail * tail <= 1e-18) break;
             phi = next;
         }
@@ -381,7 +464,9 @@ public static class Lyapunov
             foreach (Matrix<double> p in powers)
             {
                 // Smith (1968) doubling: V_{k+1} = V_k + Φ^{2^k} V_k (Φ^{2^k})ᵀ.
-                v = Validation.Symmetrise(v + p * v.TransposeAndMultiply(p));
+                v = n < MatrixExponential.BlockedMinDimension
+                    ? Validation.Symmetrise(v + p * v.TransposeAndMultiply(p))
+                    : DenseProduct.Congruence(p, v, v);
             }
 
             return v;

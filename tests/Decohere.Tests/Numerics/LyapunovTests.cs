@@ -104,15 +104,124 @@ public class LyapunovTests
     }
 
     [Fact]
-    public void DefectiveLargeSystemFallsBackToSmith()
+    public void DefectiveLargeSystemIsSolvedWithoutEigenvectors()
     {
-        // Source: A = −I + N (one 80×80 Jordan block) has no eigenvector basis, so the
-        // diagonal method must decline; the residual bound must still hold.
+        // Source: A = −I + N (one 80×80 Jordan block) has no eigenvector basis, so the diagonal method must decline; the Schur
+        // form needs none (it is orthogonal for any A), and Smith doubling, asked for, needs none either. The residual bound holds.
         var (a, d) = Case("jordan-80");
         var solution = Lyapunov.Solve(a, d);
-        Assert.Equal(LyapunovMethod.SmithDoubling, solution.Method);
-        Assert.NotEmpty(solution.Warnings);
+        Assert.Equal(LyapunovMethod.BartelsStewart, solution.Method);
+        Assert.True(solution.RelativeResidual <= ResidualBound, $"{solution.RelativeResidual:G3}");
+        var smith = Lyapunov.Solve(a, d, LyapunovMethod.SmithDoubling);
+        Assert.True(smith.RelativeResidual <= ResidualBound, $"{smith.RelativeResidual:G3}");
+        Assert.True(Models.RelativeDifference(solution.Covariance, smith.Covariance) < 1e-9);
         Assert.Throws<InvalidOperationException>(() => Lyapunov.Solve(a, d, LyapunovMethod.Eigendecomposition));
+    }
+
+    [Theory]
+    [InlineData(40)]
+    [InlineData(81)]
+    [InlineData(130)]
+    [InlineData(200)]
+    public void BartelsStewartResidualOnRandomStableMatrices(int n)
+    {
+        // Source: the defining equation, ‖A V + V Aᵀ + D‖_F / ‖D‖_F ≤ 1e-12, on A = R − (max Re λ(R) + 1) I with λ from MathNet's
+        // eigensolver (so every eigenvalue has Re λ ≤ −1 and V is well conditioned) and a random positive definite D.
+        var random = new Random(100 + n);
+        var r = Models.RandomMatrix(random, n, n, 1.0 / Math.Sqrt(n));
+        double shift = r.Evd(Symmetricity.Asymmetric).EigenValues.Max(e => e.Real) + 1;
+        var a = r - shift * Matrix<double>.Build.DenseIdentity(n);
+        var d = Models.RandomSpd(random, n);
+
+        var solution = Lyapunov.Solve(a, d);
+
+        Assert.Equal(LyapunovMethod.BartelsStewart, solution.Method);
+        var v = solution.Covariance;
+        double residual = (a * v + v * a.Transpose() + d).FrobeniusNorm() / d.FrobeniusNorm();
+        Assert.True(residual <= 1e-12, $"n = {n}: {residual:G3}");
+        Assert.Equal(v, v.Transpose());
+        Assert.Empty(solution.Warnings);
+    }
+
+    [Theory]
+    [InlineData(3)]
+    [InlineData(17)]
+    [InlineData(30)]
+    public void BartelsStewartAgreesWithKronecker(int n)
+    {
+        // Source: agreement with the independent Kronecker (vech) solver, which shares no factorisation with the Schur path.
+        var random = new Random(n);
+        var r = Models.RandomMatrix(random, n, n, 1.0 / Math.Sqrt(n));
+        double shift = r.Evd(Symmetricity.Asymmetric).EigenValues.Max(e => e.Real) + 0.5;
+        var a = r - shift * Matrix<double>.Build.DenseIdentity(n);
+        var d = Models.RandomSpd(random, n);
+
+        var schur = Lyapunov.Solve(a, d, LyapunovMethod.BartelsStewart);
+        var kronecker = Lyapunov.Solve(a, d, LyapunovMethod.Kronecker);
+
+        Assert.Equal(LyapunovMethod.BartelsStewart, schur.Method);
+        Assert.True(Models.RelativeDifference(schur.Covariance, kronecker.Covariance) < 1e-12,
+            $"{Models.RelativeDifference(schur.Covariance, kronecker.Covariance):G3}");
+    }
+
+    [Theory]
+    [InlineData("rotating-damped-2")]
+    [InlineData("coupled-4")]
+    [InlineData("optomech-strong-4")]
+    [InlineData("chain-20")]
+    public void ComplexPairsGoThroughTwoByTwoBlocks(string name)
+    {
+        // Source: every eigenvalue of these drifts is a complex pair (rotating frames, beam splitters), so the Schur form has only
+        // 2×2 blocks; the Kronecker solver is the independent reference.
+        var (a, d) = Case(name);
+        var schur = Lyapunov.Solve(a, d, LyapunovMethod.BartelsStewart);
+        var kronecker = Lyapunov.Solve(a, d, LyapunovMethod.Kronecker);
+        Assert.True(Models.RelativeDifference(schur.Covariance, kronecker.Covariance) < 1e-11,
+            $"{Models.RelativeDifference(schur.Covariance, kronecker.Covariance):G3}");
+    }
+
+    [Fact]
+    public void RotatingDampedModeIsThermalThroughTwoByTwoBlock()
+    {
+        // Source: A = [[−γ/2, ω], [−ω, −γ/2]], D = γ(n+½) I gives V = (n+½) I (rotation commutes with the thermal state);
+        // the Schur form of A is A itself, one 2×2 block with eigenvalues −γ/2 ± iω.
+        const double gamma = 0.3, omega = 5.0, n = 1.5;
+        var a = Matrix<double>.Build.DenseOfArray(new[,] { { -gamma / 2, omega }, { -omega, -gamma / 2 } });
+        var d = Matrix<double>.Build.DenseIdentity(2) * (gamma * (n + 0.5));
+        var v = Lyapunov.Solve(a, d, LyapunovMethod.BartelsStewart).Covariance;
+        Assert.True(Models.RelativeDifference(v, Matrix<double>.Build.DenseIdentity(2) * (n + 0.5)) < 1e-14);
+    }
+
+    [Fact]
+    public void NearMarginalHighQModesAreThermalAndWarned()
+    {
+        // Source: uncoupled modes with V_j = (n_j+½) I₂ exactly (as in DampedModeIsThermal), here 20 mechanical modes at
+        // 5 MHz with γ = 2π·1 mHz (Q ≈ 5·10⁹), n = 40 so Automatic picks Bartels–Stewart. ‖A‖/min|Re λ| ≈ 10¹¹ trips the
+        // near-marginal warning. Each 2×2 block is solved on its own, so the error stays at rounding relative to each mode's
+        // ω/γ; allow that condition number times 10ε.
+        const int modes = 20;
+        double gamma = 2 * Math.PI * 1e-3;
+        var h = Matrix<double>.Build.Dense(2 * modes, 2 * modes);
+        var rates = new double[modes];
+        var occupancies = new double[modes];
+        for (int j = 0; j < modes; j++)
+        {
+            Models.AddFrequency(h, j, 2 * Math.PI * (5e6 + 1e3 * j));
+            rates[j] = gamma;
+            occupancies[j] = 10.0 * j;
+        }
+
+        var a = Models.Drift(h, rates);
+        var d = Models.Diffusion(rates, occupancies);
+        var expected = Matrix<double>.Build.DenseDiagonal(2 * modes, 2 * modes, i => occupancies[i / 2] + 0.5);
+
+        var solution = Lyapunov.Solve(a, d);
+
+        Assert.Equal(LyapunovMethod.BartelsStewart, solution.Method);
+        Assert.Contains(solution.Warnings, w => w.Contains("marginal", StringComparison.Ordinal));
+        double condition = 2 * Math.PI * 5.1e6 / gamma;
+        double error = Models.RelativeDifference(solution.Covariance, expected);
+        Assert.True(error < 10 * 2.2e-16 * condition, $"{error:G3} vs condition {condition:G3}");
     }
 
     [Fact]

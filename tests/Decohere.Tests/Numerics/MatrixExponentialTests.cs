@@ -90,6 +90,55 @@ public class MatrixExponentialTests
         Assert.Equal(0.0, actual[1, 0]);
     }
 
+    [Theory]
+    [InlineData(0.5)] // Padé [7/7]
+    [InlineData(3.0)] // [13/13]
+    [InlineData(60.0)] // [13/13] with squaring
+    public void LargeSymmetricMatrixMatchesEigenbasis(double scale)
+    {
+        // Source: for symmetric A = S Λ Sᵀ, e^A = S e^Λ Sᵀ, with MathNet's symmetric eigensolver as the independent method;
+        // n = 150 runs the blocked product and LU.
+        var random = new Random(11);
+        const int n = 150;
+        var m = Models.RandomMatrix(random, n, n, 1.0);
+        var a = (m + m.Transpose()) * (scale / (m + m.Transpose()).L1Norm());
+        var evd = a.Evd(Symmetricity.Symmetric);
+        var expected = evd.EigenVectors * Matrix<double>.Build.DenseOfDiagonalVector(evd.EigenValues.Map(z => Math.Exp(z.Real)))
+            * evd.EigenVectors.Transpose();
+
+        var actual = MatrixExponential.Compute(a);
+
+        Assert.True(Models.RelativeDifference(actual, expected) < 1e-13 * Math.Max(1, scale), $"{Models.RelativeDifference(actual, expected):G3}");
+    }
+
+    [Theory]
+    [InlineData(5, 0.3)] // small blocks: MathNet products, Padé [5/5]
+    [InlineData(5, 30.0)] // with squaring, so F₁₁ is carried along
+    [InlineData(60, 1.0)] // blocked product and LU, Padé [9/9] or [13/13]
+    [InlineData(60, 30.0)]
+    public void BlockTriangularFormMatchesDenseExponential(int n, double scale)
+    {
+        // Source: f of a block upper triangular matrix is block upper triangular (N. J. Higham, Functions of Matrices, SIAM
+        // (2008), Thm. 1.13), so its blocks must equal those of the dense 2n×2n exponential, which is tested against the
+        // eigenbasis above.
+        var random = new Random(n);
+        var x11 = Models.RandomMatrix(random, n, n, scale / n);
+        var x12 = Models.RandomMatrix(random, n, n, scale / n);
+        var x22 = Models.RandomMatrix(random, n, n, scale / n);
+        var full = Matrix<double>.Build.Dense(2 * n, 2 * n);
+        full.SetSubMatrix(0, 0, x11);
+        full.SetSubMatrix(0, n, x12);
+        full.SetSubMatrix(n, n, x22);
+        var dense = MatrixExponential.Compute(full);
+
+        var (f11, f12, f22) = MatrixExponential.ComputeBlockTriangular(x11, x12, x22, wantF11: true);
+
+        double tolerance = 1e-13 * Math.Max(1, scale);
+        Assert.True(Models.RelativeDifference(f11!, dense.SubMatrix(0, n, 0, n)) < tolerance);
+        Assert.True(Models.RelativeDifference(f12, dense.SubMatrix(0, n, n, n)) < tolerance);
+        Assert.True(Models.RelativeDifference(f22, dense.SubMatrix(n, n, n, n)) < tolerance);
+    }
+
     [Fact]
     public void ZeroMatrixGivesIdentity()
     {

@@ -94,6 +94,23 @@ public class VanLoanTests
         Assert.True((disc.Q - expected).FrobeniusNorm() <= 1e-10 * vss.FrobeniusNorm());
     }
 
+    [Theory]
+    [InlineData(0.5)]
+    [InlineData(40.0)]
+    public void LargeChainMatchesSteadyState(double tau)
+    {
+        // Source: stationarity of V_ss under exact propagation, Q = V_ss − Φ V_ss Φᵀ (PHYSICS.md "Numerics"), at n = 120 where
+        // the blocked product, the block triangular exponential and the blocked doubling run; V_ss from the Lyapunov solver.
+        var (a, d) = Models.Chain(60, uniformOccupancy: false);
+
+        var disc = VanLoan.Discretize(a, d, tau);
+        var vss = Lyapunov.SolveSteadyState(a, d);
+        var expected = vss - disc.Phi * vss * disc.Phi.Transpose();
+
+        Assert.Equal(disc.Q, disc.Q.Transpose());
+        Assert.True((disc.Q - expected).FrobeniusNorm() <= 1e-11 * vss.FrobeniusNorm(), $"{(disc.Q - expected).FrobeniusNorm() / vss.FrobeniusNorm():G3}");
+    }
+
     [Fact]
     public void ZeroStepIsIdentity()
     {
