@@ -30,7 +30,7 @@ public static class FitNoiseCommand
             var points = await NoiseCalibration.ReadAsync(file.FullName, options, cancel);
             var result = NoiseCalibration.Fit(points, file.Name);
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
-            Directory.CreateDirectory(dir);
+            var owned = OutputDirectory.Claim(dir, OutputSet.FitNoise);
             string path = Path.Combine(dir, "fit-noise.json");
             SummaryJson.Write(FitOutput.NoiseJson(result), path);
             if (!parse.GetValue(quiet))
@@ -45,6 +45,7 @@ public static class FitNoiseCommand
                 Cli.Out.MarkupLineInterpolated($"deviance {result.Goodness.Deviance:G5} for {result.Goodness.DegreesOfFreedom} degrees of freedom, p = {result.Goodness.PValue:G3}; correlation(gain, added_noise) = {result.Correlation:F3}");
                 Cli.Warnings(result.Warnings);
             }
+            owned.Record([path]);
             Cli.Out.WriteLine(path);
             return Cli.Ok;
         }));

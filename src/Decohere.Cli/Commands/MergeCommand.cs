@@ -22,6 +22,8 @@ public static class MergeCommand
         command.SetAction((parse, cancel) => Cli.Guard(async () =>
         {
             string dir = parse.GetValue(directory)!.FullName;
+            // A mistyped DIR is an error below, not a new empty folder.
+            var owned = Directory.Exists(dir) ? OutputDirectory.Claim(dir, OutputSet.Sweep) : null;
             var result = await SweepMerge.MergeAsync(dir, cancel);
             var paths = new List<string> { result.Path };
             string png = Path.Combine(dir, "sweep.png");
@@ -29,6 +31,7 @@ public static class MergeCommand
             if (SweepPlot.Save(result.Description, result.Rows, scenarioName, png)) paths.Add(Path.GetFullPath(png));
             if (!parse.GetValue(quiet))
                 Cli.Out.MarkupLineInterpolated($"merged {result.Parts.Count} part files: {result.Rows.Count} points, {result.Rows.Count(r => r.Error.Length > 0)} failed");
+            owned?.Record(paths);
             foreach (var path in paths) Cli.Out.WriteLine(path);
             return Cli.Ok;
         }));

@@ -48,6 +48,7 @@ public static class SweepCommand
             int? t = parse.GetValue(threads);
             if (t is < 1) throw new InputException($"--threads {t}: must be at least 1");
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
+            var owned = OutputDirectory.Claim(dir, part is { } p0 ? OutputSet.SweepPart(p0.FileName) : OutputSet.Sweep, parse.GetValue(resume) ? [part?.FileName ?? "sweep.parquet"] : []);
             bool isQuiet = parse.GetValue(quiet);
             var options = new SweepRunOptions { Shard = part, Resume = parse.GetValue(resume), MaxDegreeOfParallelism = t ?? -1 };
 
@@ -71,6 +72,7 @@ public static class SweepCommand
                 if (SweepPlot.Save(sweep.Description, result.Rows, s.Name, png)) paths.Add(Path.GetFullPath(png));
                 else if (!isQuiet) Cli.Out.MarkupLine("[yellow]note:[/] no sweep.png for more than two multiplied axes.");
             }
+            owned.Record(paths);
             if (!isQuiet) Summary(result, part);
             foreach (var path in paths) Cli.Out.WriteLine(path);
             return Cli.Ok;

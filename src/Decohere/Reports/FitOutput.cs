@@ -30,13 +30,14 @@ public static class FitOutput
     /// <summary>Writes fit.json, fit.parquet and fit.png into <paramref name="directory"/>; returns the paths.</summary>
     public static async Task<IReadOnlyList<string>> WriteAsync(FitResult fit, string directory, CancellationToken cancel = default)
     {
-        Directory.CreateDirectory(directory);
+        var owned = OutputDirectory.Claim(directory, OutputSet.Fit);
         var metadata = Provenance.For(fit.Scenario);
         string json = Path.Combine(directory, "fit.json"), table = Path.Combine(directory, "fit.parquet"), png = Path.Combine(directory, "fit.png");
         await WriteTableAsync(fit, table, metadata, cancel);
         SummaryJson.Write(Json(fit, metadata), json);
         cancel.ThrowIfCancellationRequested();
         SavePlot(fit, png);
+        owned.Record([json, table, png]);
         return [json, table, png];
     }
 

@@ -20,7 +20,7 @@ public static class LifetimeOutput
     public static async Task<IReadOnlyList<string>> WriteAsync(LifetimeReport report, string directory, CancellationToken cancel = default)
     {
         var metadata = Provenance.For(report.Scenario);
-        Directory.CreateDirectory(directory);
+        var owned = OutputDirectory.Claim(directory, OutputSet.Lifetime);
         string json = Path.Combine(directory, "lifetime.json"), table = Path.Combine(directory, "lifetime.parquet"), png = Path.Combine(directory, "lifetime.png");
         double[] delays = [.. report.DelaysS], varMin = [.. report.VarMin];
         double[] db = varMin.Select(v => 10 * Math.Log10(0.5 / v)).ToArray();
@@ -37,6 +37,7 @@ public static class LifetimeOutput
         cancel.ThrowIfCancellationRequested();
         var plot = Plot(report, delays, db, power);
         AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 700));
+        owned.Record([json, table, png]);
         return [json, table, png];
     }
 

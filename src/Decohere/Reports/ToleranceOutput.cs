@@ -27,7 +27,7 @@ public static class ToleranceOutput
     public static async Task<IReadOnlyList<string>> WriteAsync(ToleranceResult result, string directory, CancellationToken cancel = default)
     {
         var metadata = Provenance.For(result.Scenario);
-        Directory.CreateDirectory(directory);
+        var owned = OutputDirectory.Claim(directory, OutputSet.Tolerance);
         string json = Path.Combine(directory, "tolerance.json"), table = Path.Combine(directory, "tolerance.parquet"), png = Path.Combine(directory, "tolerance.png");
         var p = result.Points;
         var keys = new Dictionary<string, string>(metadata.ToKeyValues())
@@ -44,6 +44,7 @@ public static class ToleranceOutput
         cancel.ThrowIfCancellationRequested();
         var plot = Plot(result);
         AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 800));
+        owned.Record([json, table, png]);
         return [json, table, png];
     }
 

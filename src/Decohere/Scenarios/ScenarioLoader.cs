@@ -5,6 +5,7 @@ using System.Text;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
 using Decohere.Core;
+using Decohere.IO;
 
 namespace Decohere.Scenarios;
 
@@ -87,6 +88,11 @@ public static class ScenarioLoader
             var r = Reader;
             r.Mapping(root, "", TopKeys);
             string? name = r.String(r.Required(root, "", "name", "scenario name"), "name");
+            if (name is not null && OutputDirectory.NameProblem(name) is { } badName)
+            {
+                r.Report("name", YamlReader.Get(root, "name"), badName);
+                name = null;
+            }
             ModelKind model = r.Enum(YamlReader.Get(root, "model"), "model", ("full", ModelKind.Full), ("effective", ModelKind.Effective)) ?? ModelKind.Full;
             bool corrections = r.Bool(YamlReader.Get(root, "sideband_corrections"), "sideband_corrections") ?? false;
             if (corrections && model == ModelKind.Full)

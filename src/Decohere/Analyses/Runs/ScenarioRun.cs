@@ -50,7 +50,7 @@ public static class ScenarioRun
         var report = ScenarioReport.Of(dynamics);
         var metadata = Provenance.For(scenario);
         cancel.ThrowIfCancellationRequested();
-        Directory.CreateDirectory(directory);
+        var owned = OutputDirectory.Claim(directory, OutputSet.Run);
         string table = Path.Combine(directory, "covariance.parquet");
         string summary = Path.Combine(directory, "summary.json");
         string png = Path.Combine(directory, "variance.png"), svg = Path.Combine(directory, "variance.svg");
@@ -101,6 +101,7 @@ public static class ScenarioRun
         }
         cancel.ThrowIfCancellationRequested();
         SummaryJson.Write(json, summary);
+        owned.Record(paths);
         return new RunOutput(dynamics, report, paths, sampler is null ? null : new SamplingOutput(sampler, estimates!));
     }
 }
