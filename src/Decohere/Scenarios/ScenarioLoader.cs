@@ -46,6 +46,7 @@ public static class ScenarioLoader
         YamlMappingNode root;
         try
         {
+            if (TooDeep(text) is { } deep) throw new ScenarioException(source, [deep]);
             var stream = new YamlStream();
             stream.Load(new StringReader(text));
             if (stream.Documents.Count == 0 || stream.Documents[0].RootNode is not YamlMappingNode map)
@@ -68,6 +69,32 @@ public static class ScenarioLoader
         if (builder.Reader.Problems.Count > 0 || scenario is null)
             throw new ScenarioException(source, builder.Reader.Problems.OrderBy(p => p.Line).ThenBy(p => p.Column).ToList());
         return scenario;
+    }
+
+    /// <summary>Deepest nesting of lists and mappings accepted; a scenario needs six levels.</summary>
+    public const int MaxDepth = 64;
+
+    // YamlStream builds its tree recursively, so 50 000 nested brackets overflow the stack, which no handler can catch.
+    // The event parser keeps its own stack, so a first pass with it measures the depth safely before the tree is built.
+    private static ScenarioProblem? TooDeep(string text)
+    {
+        var parser = new Parser(new StringReader(text));
+        int depth = 0;
+        while (parser.MoveNext())
+        {
+            switch (parser.Current)
+            {
+                case YamlDotNet.Core.Events.MappingStart or YamlDotNet.Core.Events.SequenceStart:
+                    if (++depth > MaxDepth)
+                        return new ScenarioProblem("(yaml)", (int)parser.Current.Start.Line, (int)parser.Current.Start.Column,
+                            $"lists and mappings are nested more than {MaxDepth} levels deep; a scenario needs at most six");
+                    break;
+                case YamlDotNet.Core.Events.MappingEnd or YamlDotNet.Core.Events.SequenceEnd:
+                    depth--;
+                    break;
+            }
+        }
+        return null;
     }
 
     /// <summary>SHA-256 of the scenario text, lower-case hex.</summary>
@@ -119,8 +146,89 @@ public static class ScenarioLoader
             long seed = r.Integer(YamlReader.Get(root, "seed"), "seed", 0) ?? 1;
 
             if (name is null || r.Problems.Count > 0) return null;
-            return new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
+            var scenario = new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
                 step, seed, text, Hash(text));
+            CheckScales(scenario);
+            return r.Problems.Count > 0 ? null : scenario;
+        }
+
+        /// <summary>Largest rate × duration (angular rate in s⁻¹ times seconds) accepted for any one field.</summary>
+        /// <remarks>
+        /// The engine takes eigenvalues and matrix exponentials of the drift of a whole stage at once; in double
+        /// precision they resolve rates about twelve decades apart and no more (a 1e20 Hz linewidth beside a 200 kHz
+        /// cavity made the stability analysis call a damped stage unstable; 1e308 Hz overflowed to ∞ and stopped the
+        /// eigen-solver). Physical rates times the durations they act for stay far below: the demo's largest is κ·t ≈ 4e3.
+        /// </remarks>
+        public const double MaxRateTime = 1e12;
+
+        /// <summary>Largest occupancy or noise (quanta) accepted: a 1 Hz oscillator at 5·10⁴ K; beyond it variances times shot counts leave double range.</summary>
+        public const double MaxQuanta = 1e15;
+
+        // Fields that are each valid but together leave double precision: rates times the durations they act for,
+        // and occupancies too large for sums over shots.
+        private void CheckScales(Scenario s)
+        {
+            var r = Reader;
+            double total = s.TotalDurationS;
+            if (!double.IsFinite(total))
+            {
+                r.Report("stages", null, "the stage durations add up to more than double precision holds; give durations in a physical range");
+                return;
+            }
+            void Rate(string path, double hz, double seconds, string what)
+            {
+                double product = Physics.Angular(Math.Abs(hz)) * seconds;
+                if (!(product <= MaxRateTime))
+                    r.Report(path, r.NumberNode(path), $"{what}: 2π × {hz:G3} Hz × {Quantity.Format(seconds, Dimension.Time)} = {product:G3} exceeds {MaxRateTime:G3}; " +
+                        "a rate this far beyond the scenario's durations cannot be resolved beside its other rates in double precision (use a smaller rate or a shorter duration)");
+            }
+            void Quanta(string path, double value, double limit = MaxQuanta)
+            {
+                if (Math.Abs(value) > limit)
+                    r.Report(path, r.NumberNode(path), $"{value:G3} is out of range: must be at most {limit:G3} (in quanta, {MaxQuanta:G0}: a 1 Hz oscillator at 5·10⁴ K; beyond it variances summed over shots leave double precision)");
+            }
+            string First(params string[] paths) => paths.FirstOrDefault(p => r.NumberNode(p) is not null) ?? paths[0];
+
+            foreach (var m in s.Modes)
+            {
+                string path = $"modes.{m.Name}";
+                Rate(First(path + ".linewidth", path + ".quality_factor"), m.LinewidthHz, total, "linewidth × total duration");
+                Quanta(First(path + ".bath.occupancy", path + ".bath.temperature"), m.Bath.Occupancy);
+            }
+            for (int i = 0; i < s.Couplings.Length; i++)
+                Rate($"couplings[{i}].rate", s.Couplings[i].RateHz, total, "rate × total duration");
+            foreach (var (name, state) in s.Initial)
+            {
+                if (state is InitialState.Thermal t) Quanta($"initial.{name}.occupancy", t.Occupancy);
+                if (state is InitialState.Coherent c)
+                {
+                    // A displacement x carries x²/2 quanta.
+                    Quanta($"initial.{name}.x", c.X, Math.Sqrt(2 * MaxQuanta));
+                    Quanta($"initial.{name}.p", c.P, Math.Sqrt(2 * MaxQuanta));
+                }
+            }
+            for (int i = 0; i < s.Stages.Length; i++)
+            {
+                var stage = s.Stages[i];
+                string path = $"stages[{i}]";
+                for (int k = 0; k < stage.Tones.Length; k++)
+                {
+                    string tone = $"{path}.tones[{k}]";
+                    Rate(First(tone + ".coupling", tone + ".g0", tone + ".cooperativity"), stage.Tones[k].CouplingHz, stage.DurationS, "coupling × stage duration");
+                }
+                foreach (var (mode, hz) in stage.DetuningsHz) Rate($"{path}.detuning.{mode}", hz, stage.DurationS, "detuning × stage duration");
+                foreach (var (mode, bath) in stage.BathOverrides)
+                    Quanta(First($"{path}.bath.{mode}.occupancy", $"{path}.bath.{mode}.temperature"), bath.Occupancy);
+            }
+            // A jittered frequency is a detuning of several σ in some shot.
+            foreach (var (mode, hz) in s.Jitter.FrequencyHz) Rate($"jitter.frequency.{mode}", 10 * hz, total, "10 σ × total duration");
+            foreach (var (mode, n) in s.Jitter.Occupancy) Quanta($"jitter.occupancy.{mode}", n);
+            if (s.Readout is { } ro)
+            {
+                Quanta("readout.added_noise", ro.AddedNoise);
+                Quanta("readout.detector_noise", ro.DetectorNoise);
+                Rate("readout.coupling", ro.AmplificationCouplingHz, ro.AmplificationDurationS, "coupling × pulse duration");
+            }
         }
 
         private ImmutableArray<Mode> Modes(YamlNode? node)
@@ -130,9 +238,8 @@ public static class ScenarioLoader
             var result = ImmutableArray.CreateBuilder<Mode>();
             if (map is null) return result.ToImmutable();
             if (map.Children.Count == 0) r.Report("modes", map, "at least one mode is needed");
-            foreach (var (keyNode, value) in map.Children)
+            foreach (var (name, _, value) in YamlReader.Entries(map))
             {
-                string name = ((YamlScalarNode)keyNode).Value ?? "";
                 string path = $"modes.{name}";
                 var m = r.Mapping(value, path, "kind", "frequency", "linewidth", "quality_factor", "bath");
                 if (m is null) continue;
@@ -207,8 +314,6 @@ public static class ScenarioLoader
             return mode;
         }
 
-        private static readonly Dictionary<YamlNode, YamlNode> Empty = [];
-
         private static string Kind(ModeKind k) => k == ModeKind.Mechanical ? "mechanical" : "cavity";
 
         private ImmutableArray<StaticCoupling> Couplings(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
@@ -251,11 +356,15 @@ public static class ScenarioLoader
             var result = ImmutableDictionary.CreateBuilder<string, InitialState>();
             var map = r.NamedMapping(node, "initial");
             if (map is null) return result.ToImmutable();
-            foreach (var (keyNode, value) in map.Children)
+            foreach (var (name, keyNode, value) in YamlReader.Entries(map))
             {
-                string name = ((YamlScalarNode)keyNode).Value ?? "";
                 string path = $"initial.{name}";
                 var mode = ModeRef(keyNode, path, modes, null);
+                if (value is YamlScalarNode brief)
+                {
+                    if (Shorthand(brief, path, mode) is { } state0 && mode is not null) result[mode.Name] = state0;
+                    continue;
+                }
                 var m = r.Mapping(value, path, "state", "occupancy", "squeezing_db", "angle", "x", "p");
                 if (m is null) continue;
                 var stateNode = r.Required(m, path, "state", "ground | thermal | squeezed | coherent | steady");
@@ -294,6 +403,27 @@ public static class ScenarioLoader
             return result.ToImmutable();
         }
 
+        // `drum: ground` for `drum: { state: ground }`; `drum: thermal` is the thermal state of the mode's own bath.
+        private InitialState? Shorthand(YamlScalarNode node, string path, Mode? mode)
+        {
+            string? state = Reader.String(node, path);
+            switch (state)
+            {
+                case null: return null;
+                case "ground": return new InitialState.Ground();
+                case "steady": return new InitialState.Steady();
+                case "coherent": return new InitialState.Coherent(0, 0);
+                case "thermal": return mode is null ? null : new InitialState.Thermal(mode.Bath.Occupancy);
+                case "squeezed":
+                    Reader.Report(path, node, "state squeezed needs its squeezing: write { state: squeezed, squeezing_db: 5 dB, angle: 0 deg }");
+                    return null;
+                default:
+                    string[] states = ["ground", "thermal", "squeezed", "coherent", "steady"];
+                    Reader.Report(path, node, $"'{YamlReader.Shorten(state)}' is not a state{NameSuggestion.Suggest(state, states)}; allowed: ground | thermal (at the mode's bath) | steady | coherent (at the origin), or a mapping {{ state: ..., ... }}");
+                    return null;
+            }
+        }
+
         private ImmutableArray<Stage> Stages(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
         {
             var r = Reader;
@@ -319,17 +449,17 @@ public static class ScenarioLoader
 
                 var baths = ImmutableDictionary.CreateBuilder<string, Bath>();
                 var bathMap = r.NamedMapping(YamlReader.Get(m, "bath"), path + ".bath");
-                foreach (var (keyNode, value) in bathMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(bathMap))
                 {
-                    var mode = ModeRef(keyNode, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", modes, null);
-                    if (BathOf(value, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", mode?.FrequencyHz) is { } b && mode is not null)
+                    var mode = ModeRef(keyNode, $"{path}.bath.{modeName}", modes, null);
+                    if (BathOf(value, $"{path}.bath.{modeName}", mode?.FrequencyHz) is { } b && mode is not null)
                         baths[mode.Name] = b;
                 }
                 var detunings = ImmutableDictionary.CreateBuilder<string, double>();
                 var detMap = r.NamedMapping(YamlReader.Get(m, "detuning"), path + ".detuning");
-                foreach (var (keyNode, value) in detMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(detMap))
                 {
-                    string p = $"{path}.detuning.{((YamlScalarNode)keyNode).Value}";
+                    string p = $"{path}.detuning.{modeName}";
                     var mode = ModeRef(keyNode, p, modes, null);
                     if (mode?.Kind == ModeKind.Cavity && model == ModelKind.Effective)
                         r.Report(p, keyNode, "the effective model eliminates cavities at the sideband resonance; a cavity detuning needs model: full");
@@ -396,7 +526,7 @@ public static class ScenarioLoader
             double? added = method == ReadoutMethod.Phenomenological
                 ? r.Number(r.Required(m, path, "added_noise", "quanta per quadrature, input-referred"), path + ".added_noise", Dimension.Dimensionless, 0)
                 : r.Number(YamlReader.Get(m, "added_noise"), path + ".added_noise", Dimension.Dimensionless, 0);
-            long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, 1_000_000_000_000);
+            long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, int.MaxValue);
             string? stageName = r.String(r.Required(m, path, "stage", "stage the delays count from"), path + ".stage");
             int stageIndex = -1;
             if (stageName is not null)
@@ -445,9 +575,9 @@ public static class ScenarioLoader
             ImmutableDictionary<string, double> PerMode(string key, Dimension dimension, ModeKind? kind)
             {
                 var result = ImmutableDictionary.CreateBuilder<string, double>();
-                foreach (var (keyNode, value) in r.NamedMapping(YamlReader.Get(m, key), "jitter." + key)?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(r.NamedMapping(YamlReader.Get(m, key), "jitter." + key)))
                 {
-                    string p = $"jitter.{key}.{((YamlScalarNode)keyNode).Value}";
+                    string p = $"jitter.{key}.{modeName}";
                     var mode = ModeRef(keyNode, p, modes, kind);
                     if (r.Number(value, p, dimension, 0) is { } v && mode is not null) result[mode.Name] = v;
                 }
