@@ -44,11 +44,13 @@ public static class ScenarioLoader
     public static Scenario Parse(string text, string source = "scenario")
     {
         YamlMappingNode root;
+        Parser? parser = null;
         try
         {
             if (TooDeep(text) is { } deep) throw new ScenarioException(source, [deep]);
             var stream = new YamlStream();
-            stream.Load(new StringReader(text));
+            parser = new Parser(new StringReader(text));
+            stream.Load(parser);
             if (stream.Documents.Count == 0 || stream.Documents[0].RootNode is not YamlMappingNode map)
                 throw new ScenarioException(source, [new ScenarioProblem("(file)", 1, 1, "the file is not a YAML mapping of scenario fields")]);
             root = map;
@@ -57,6 +59,16 @@ public static class ScenarioLoader
         {
             string message = (e.InnerException?.Message ?? e.Message).Split(['\n'])[0];
             throw new ScenarioException(source, [new ScenarioProblem("(yaml)", (int)e.Start.Line, (int)e.Start.Column, $"malformed YAML: {message}")]);
+        }
+        catch (ArgumentException) when (parser?.Current is { } at)
+        {
+            // The tree builder meets an event it has no node for; the fuzz test found it after a ':' on its own line, which
+            // YAML reads as a key without a name. The builder only fails at the end of the mapping, so point at the colon.
+            var lines = text.Split('\n');
+            int lone = Array.FindIndex(lines, l => l.TrimStart().StartsWith(':') && (l.TrimStart().Length == 1 || char.IsWhiteSpace(l.TrimStart()[1])));
+            throw new ScenarioException(source, [lone >= 0
+                ? new ScenarioProblem("(yaml)", lone + 1, lines[lone].IndexOf(':') + 1, "malformed YAML: a ':' without a key before it")
+                : new ScenarioProblem("(yaml)", (int)at.Start.Line, (int)at.Start.Column, $"malformed YAML: unexpected {at.GetType().Name} here")]);
         }
         catch (InvalidOperationException)
         {

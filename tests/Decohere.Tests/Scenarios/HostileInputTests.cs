@@ -118,6 +118,16 @@ public class HostileInputTests
     }
 
     [Fact]
+    public void AColonOnItsOwnLineAfterAListIsMalformedYamlNotAnArgumentException()
+    {
+        // Found by ScenarioFuzzTests: YamlDotNet's tree builder threw ArgumentException ("unsupported event type").
+        var e = Assert.Throws<ScenarioException>(() => ScenarioLoader.Parse("name: t\nstages:\n  - a\n:\nreadout: 1\n"));
+        var problem = Assert.Single(e.Problems);
+        Assert.Equal(("(yaml)", 4, 1), (problem.Path, problem.Line, problem.Column));
+        Assert.Contains("':' without a key", problem.Message);
+    }
+
+    [Fact]
     public void ALongNumberIsRefusedQuicklyAndTheParseIsLinear()
     {
         string digits = new('1', 64 * 1024);
