@@ -50,7 +50,7 @@ public sealed class Dynamics
                 throw new UnstableDynamicsException(Stabilities[i].GrowthRate,
                     $"stage '{scenario.Stages[i].Name}' amplifies at {Stabilities[i].GrowthRate:G3} s⁻¹ for {scenario.Stages[i].DurationS:G3} s: " +
                     $"{folds:G3} e-folds of amplitude, more than {MaxGrowthFolds} (the variances would grow by e^{2 * folds:G3}, past double precision); " +
-                    "lower the blue-sideband couplings (stages[].tones[].coupling) or shorten the stage");
+                    $"lower the blue-sideband couplings (stages[{i}].tones) or shorten the stage");
         }
         StageStarts = scenario.StageStarts;
         _steady = new GaussianState?[scenario.Stages.Length];

@@ -36,6 +36,9 @@ public static class ScenarioLoader
     {
         if (!File.Exists(path))
             throw new ScenarioException(path, [new ScenarioProblem(path, 0, 0, "file not found")]);
+        long length = new FileInfo(path).Length;
+        if (length > MaxFileBytes)
+            throw new ScenarioException(path, [new ScenarioProblem(path, 0, 0, $"the file has {length} bytes; a scenario file has at most {MaxFileBytes} (the 40-mode example has 7 KB)")]);
         return Parse(File.ReadAllText(path), path);
     }
 
@@ -82,6 +85,9 @@ public static class ScenarioLoader
             throw new ScenarioException(source, builder.Reader.Problems.OrderBy(p => p.Line).ThenBy(p => p.Column).ToList());
         return scenario;
     }
+
+    /// <summary>Largest scenario file read: far beyond any real scenario, small enough to refuse a wrong file (a data dump) at once.</summary>
+    public const long MaxFileBytes = 16 << 20;
 
     /// <summary>Deepest nesting of lists and mappings accepted; a scenario needs six levels.</summary>
     public const int MaxDepth = 64;
@@ -191,7 +197,7 @@ public static class ScenarioLoader
             {
                 double product = Physics.Angular(Math.Abs(hz)) * seconds;
                 if (!(product <= MaxRateTime))
-                    r.Report(path, r.NumberNode(path), $"{what}: 2π × {hz:G3} Hz × {Quantity.Format(seconds, Dimension.Time)} = {product:G3} exceeds {MaxRateTime:G3}; " +
+                    r.Report(path, r.NumberNode(path), $"{what}: 2π × {hz:G3} Hz × {Quantity.Format(seconds, Dimension.Time)} {(double.IsFinite(product) ? $"= {product:G3}" : "overflows and")} exceeds {MaxRateTime:G3}; " +
                         "a rate this far beyond the scenario's durations cannot be resolved beside its other rates in double precision (use a smaller rate or a shorter duration)");
             }
             void Quanta(string path, double value, double limit = MaxQuanta)
