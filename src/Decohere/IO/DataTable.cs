@@ -177,8 +177,9 @@ public sealed class DataTable
             for (int c = 0; c < columns; c++)
             {
                 var column = schema.Column(c);
-                names[c] = column.Path.ToDotString();
-                if (column.MaxRepetitionLevel > 0 || names[c].Contains('.'))
+                string[] path = column.Path.ToDotVector();
+                names[c] = string.Join('.', path);
+                if (column.MaxRepetitionLevel > 0 || path.Length > 1)
                     throw new InputException($"{name}: column {names[c]} is nested (a list, map or struct); expected flat columns of numbers or text");
             }
             var duplicate = names.GroupBy(n => n).FirstOrDefault(g => g.Count() > 1);

@@ -200,10 +200,11 @@ public static class ScenarioLoader
                     r.Report(path, r.NumberNode(path), $"{what}: 2π × {hz:G3} Hz × {Quantity.Format(seconds, Dimension.Time)} {(double.IsFinite(product) ? $"= {product:G3}" : "overflows and")} exceeds {MaxRateTime:G3}; " +
                         "a rate this far beyond the scenario's durations cannot be resolved beside its other rates in double precision (use a smaller rate or a shorter duration)");
             }
-            void Quanta(string path, double value, double limit = MaxQuanta)
+            void Quanta(string path, double value, double limit = MaxQuanta, string unit = "quanta")
             {
                 if (Math.Abs(value) > limit)
-                    r.Report(path, r.NumberNode(path), $"{value:G3} is out of range: must be at most {limit:G3} (in quanta, {MaxQuanta:G0}: a 1 Hz oscillator at 5·10⁴ K; beyond it variances summed over shots leave double precision)");
+                    r.Report(path, r.NumberNode(path), $"{value:G3} is out of range: must be at most {limit:G3} {unit} " +
+                        "(10¹⁵ quanta is a 1 Hz oscillator at 5·10⁴ K; beyond it variances summed over shots leave double precision)");
             }
             string First(params string[] paths) => paths.FirstOrDefault(p => r.NumberNode(p) is not null) ?? paths[0];
 
@@ -221,8 +222,8 @@ public static class ScenarioLoader
                 if (state is InitialState.Coherent c)
                 {
                     // A displacement x carries x²/2 quanta.
-                    Quanta($"initial.{name}.x", c.X, Math.Sqrt(2 * MaxQuanta));
-                    Quanta($"initial.{name}.p", c.P, Math.Sqrt(2 * MaxQuanta));
+                    Quanta($"initial.{name}.x", c.X, Math.Sqrt(2 * MaxQuanta), "in magnitude");
+                    Quanta($"initial.{name}.p", c.P, Math.Sqrt(2 * MaxQuanta), "in magnitude");
                 }
             }
             for (int i = 0; i < s.Stages.Length; i++)
@@ -256,9 +257,10 @@ public static class ScenarioLoader
             var result = ImmutableArray.CreateBuilder<Mode>();
             if (map is null) return result.ToImmutable();
             if (map.Children.Count == 0) r.Report("modes", map, "at least one mode is needed");
-            foreach (var (name, _, value) in YamlReader.Entries(map))
+            foreach (var (name, key, value) in YamlReader.Entries(map))
             {
                 string path = $"modes.{name}";
+                if (LabelProblem(name, "mode") is { } bad) r.Report(path, key, bad);
                 var m = r.Mapping(value, path, "kind", "frequency", "linewidth", "quality_factor", "bath");
                 if (m is null) continue;
                 ModeKind? kind = r.Enum(r.Required(m, path, "kind", "mechanical | cavity"), path + ".kind",
@@ -421,6 +423,21 @@ public static class ScenarioLoader
             return result.ToImmutable();
         }
 
+        // Mode and stage names are printed to terminals and written into parameter paths (modes.<name>.linewidth,
+        // stages.<name>.tones[0].coupling), so they may hold neither control characters nor the paths' separators.
+        private static string? LabelProblem(string name, string what)
+        {
+            if (name.Length == 0) return $"a {what} name must not be empty";
+            if (name.Length > 100) return $"the {what} name is {name.Length} characters long; at most 100";
+            int control = name.AsSpan().IndexOfAnyInRange('\0', '\u001f') is var c0 and >= 0 ? c0 : name.AsSpan().IndexOfAnyInRange('\u007f', '\u009f');
+            if (control >= 0)
+                return $"the {what} name contains the control character U+{(int)name[control]:X4}; use letters, digits, '-' and '_'";
+            int separator = name.IndexOfAny(['.', '[', ']']);
+            if (separator >= 0)
+                return $"the {what} name '{name}' contains '{name[separator]}', which separates parameter paths (modes.<name>.linewidth, stages.<name>.tones[0]); use letters, digits, '-' and '_'";
+            return null;
+        }
+
         // `drum: ground` for `drum: { state: ground }`; `drum: thermal` is the thermal state of the mode's own bath.
         private InitialState? Shorthand(YamlScalarNode node, string path, Mode? mode)
         {
@@ -456,6 +473,11 @@ public static class ScenarioLoader
                 var m = r.Mapping(seq.Children[i], path, "name", "duration", "tones", "bath", "detuning");
                 if (m is null) continue;
                 string? name = r.String(r.Required(m, path, "name", "stage name"), path + ".name");
+                if (name is not null && LabelProblem(name, "stage") is { } bad)
+                {
+                    r.Report(path + ".name", YamlReader.Get(m, "name"), bad);
+                    name = null;
+                }
                 if (name is not null && !names.Add(name))
                     r.Report(path + ".name", YamlReader.Get(m, "name"), $"duplicate stage name '{name}'");
                 double? duration = r.Number(r.Required(m, path, "duration", "a time, e.g. 1 ms"), path + ".duration", Dimension.Time, 0, minExclusive: true);

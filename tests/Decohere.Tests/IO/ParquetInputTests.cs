@@ -30,6 +30,9 @@ public class ParquetInputTests
         Assert.Equal([1.0, 2, 3, 4, 5], table.Numbers("k", "k"));
         Assert.Equal([0.25, 0.5, 0.75, 1, 1.25], table.Numbers("f", "f"));
         Assert.All(table.Texts("mode"), m => Assert.Equal("drum", m));
+        // A flat column may have a dot in its name; only a path of several parts is nested.
+        var dotted = await DataTable.LoadAsync(Write("SELECT 1.5::DOUBLE AS \"var.i\""));
+        Assert.Equal([1.5], dotted.Numbers("var.i", "var_i"));
     }
 
     [Fact]

@@ -195,4 +195,22 @@ public class HostileInputTests
         var e = Assert.Throws<ScenarioException>(() => ScenarioLoader.Parse(yaml));
         Assert.NotEmpty(e.Problems);
     }
+
+    [Theory]
+    [InlineData("dr.um")]
+    [InlineData("drum[0]")]
+    [InlineData("\"dr\\u001b[2Jum\"")]
+    [InlineData("\"dr\\0um\"")]
+    public void ModeNamesThatBreakParameterPathsOrTerminalsAreRefused(string name)
+    {
+        var e = Assert.Throws<ScenarioException>(() => ScenarioLoader.Parse(Minimal.Replace("  drum:\n", $"  {name}:\n")));
+        Assert.Contains(e.Problems, p => p.Line == 3 && p.Message.Contains("mode name"));
+    }
+
+    [Fact]
+    public void StageNamesWithControlCharactersAreRefused()
+    {
+        var problem = Refused(Minimal.Replace("name: cool", "name: \"co\\u0007ol\""), "stages[0].name");
+        Assert.Contains("U+0007", problem.Message);
+    }
 }
