@@ -179,6 +179,9 @@ public static class ScenarioLoader
         /// </remarks>
         public const double MaxRateTime = 1e12;
 
+        /// <summary>Largest mode frequency accepted (Hz).</summary>
+        public const double MaxFrequencyHz = 1e16;
+
         /// <summary>Largest occupancy or noise (quanta) accepted: a 1 Hz oscillator at 5·10⁴ K; beyond it variances times shot counts leave double range.</summary>
         public const double MaxQuanta = 1e15;
 
@@ -265,7 +268,8 @@ public static class ScenarioLoader
                 if (m is null) continue;
                 ModeKind? kind = r.Enum(r.Required(m, path, "kind", "mechanical | cavity"), path + ".kind",
                     ("mechanical", ModeKind.Mechanical), ("cavity", ModeKind.Cavity));
-                double? f = r.Number(r.Required(m, path, "frequency", "a frequency, e.g. 4.1 MHz"), path + ".frequency", Dimension.Frequency, 0, minExclusive: true);
+                // The upper bound lies past ultraviolet light, above any resonator a cavity couples to; 1e308 Hz made Q = f/γ infinite.
+                double? f = r.Number(r.Required(m, path, "frequency", "a frequency, e.g. 4.1 MHz"), path + ".frequency", Dimension.Frequency, 0, minExclusive: true, max: MaxFrequencyHz);
                 double? linewidth = null;
                 var lw = YamlReader.Get(m, "linewidth");
                 var qf = YamlReader.Get(m, "quality_factor");

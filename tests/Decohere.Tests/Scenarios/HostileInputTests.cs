@@ -80,10 +80,11 @@ public class HostileInputTests
     [Theory]
     [InlineData("frequency: 1e308 kHz", "modes.drum.frequency")]
     [InlineData("frequency: 1e306 GHz", "modes.drum.frequency")]
+    [InlineData("frequency: 1e308", "modes.drum.frequency")]   // finite, but Q = f/γ overflowed and summary.json could not be written
     public void AQuantityThatOverflowsInSiUnitsIsRefused(string field, string path)
     {
         var problem = Refused(Minimal.Replace("frequency: 4 MHz", field), path);
-        Assert.Contains("finite", problem.Message);
+        Assert.True(problem.Message.Contains("finite") || problem.Message.Contains("<= 1E+16"), problem.Message);
     }
 
     [Fact]

@@ -1,6 +1,7 @@
 using System.Diagnostics;
 using System.Text;
 using Decohere.Analyses.Check;
+using Decohere.Analyses.Runs;
 using Decohere.Core;
 using Decohere.Engine;
 using Decohere.Numerics;
@@ -64,6 +65,43 @@ public class ScenarioFuzzTests(ITestOutputHelper output)
         Assert.True(outcomes.GetValueOrDefault("valid") >= Cases / 20, "too few mutations leave a valid scenario");
         Assert.True(outcomes.GetValueOrDefault("refused by the loader") >= Cases / 4, "too few mutations are refused");
     }
+
+    [Fact]
+    public async Task MutatedExamplesThatLoadRunToTheEndOrAreRefused()
+    {
+        // The whole of `run` (covariances, shots, estimates, trajectories, summary, plots) on the mutations that load,
+        // kept small: at most 300 shots per delay and 200 output times; the 40-mode chain is left to the test above.
+        var sources = Directory.GetFiles(Path.Combine(TestPaths.RepositoryRoot, "scenarios"), "*.yaml").Where(f => !f.Contains("chain"))
+            .Order(StringComparer.Ordinal).Select(File.ReadAllText).ToArray();
+        int ran = 0, refused = 0;
+        for (int k = 0; k < RunCases; k++)
+        {
+            var random = new Random(Seed + 1_000_000 + k);
+            var (text, mutations) = Mutate(sources[random.Next(sources.Length)], sources, random);
+            Scenario scenario;
+            try { scenario = ScenarioLoader.Parse(text, "fuzz.yaml"); }
+            catch (ScenarioException) { continue; }
+            if (scenario.Readout is { } readout) scenario = scenario with { Readout = readout with { Shots = Math.Min(readout.Shots, 300) } };
+            scenario = scenario with { OutputStepS = Math.Max(scenario.OutputStepS, scenario.TotalDurationS / 200) };
+            try
+            {
+                await ScenarioRun.WriteAsync(scenario, TestPaths.NewTempDirectory(), new RunSettings(Trajectories: 3));
+                ran++;
+            }
+            catch (Exception e) when (e is InputException or UnstableDynamicsException)
+            {
+                refused++;
+            }
+            catch (Exception e)
+            {
+                Assert.Fail($"case {k} ({mutations}) ended in {e.GetType().Name}: {e.Message}\n{e.StackTrace}\n---\n{Excerpt(text)}");
+            }
+        }
+        output.WriteLine($"{RunCases} cases: {ran} ran, {refused} refused by the engine, the rest refused by the loader");
+        Assert.True(ran >= RunCases / 20, $"only {ran} mutations ran");
+    }
+
+    private const int RunCases = 400;
 
     private sealed record Result(string Outcome, Exception? Failure = null);
 
