@@ -179,6 +179,9 @@ public static class ScenarioLoader
         /// </remarks>
         public const double MaxRateTime = 1e12;
 
+        /// <summary>Most modes in one scenario.</summary>
+        public const int MaxModes = 200;
+
         /// <summary>Largest mode frequency accepted (Hz).</summary>
         public const double MaxFrequencyHz = 1e16;
 
@@ -260,6 +263,12 @@ public static class ScenarioLoader
             var result = ImmutableArray.CreateBuilder<Mode>();
             if (map is null) return result.ToImmutable();
             if (map.Children.Count == 0) r.Report("modes", map, "at least one mode is needed");
+            if (map.Children.Count > MaxModes)
+            {
+                r.Report("modes", map, $"{map.Children.Count} modes; at most {MaxModes}: the engine's dense matrices cost the cube of the mode count " +
+                    "(checking 200 modes took 10 s, 400 modes 90 s, so a few thousand would run for hours)");
+                return result.ToImmutable();
+            }
             foreach (var (name, key, value) in YamlReader.Entries(map))
             {
                 string path = $"modes.{name}";

@@ -214,4 +214,16 @@ public class HostileInputTests
         var problem = Refused(Minimal.Replace("name: cool", "name: \"co\\u0007ol\""), "stages[0].name");
         Assert.Contains("U+0007", problem.Message);
     }
+
+    [Fact]
+    public void ThousandsOfModesAreRefusedInsteadOfRunningForHours()
+    {
+        var yaml = new System.Text.StringBuilder("name: t\nmodes:\n");
+        for (int i = 0; i < 3000; i++) yaml.Append($"  m{i}: {{ kind: mechanical, frequency: 4 MHz, linewidth: 1 Hz, bath: {{ occupancy: 1 }} }}\n");
+        yaml.Append("stages: [ { name: s, duration: 1 ms } ]\n");
+        var clock = Stopwatch.StartNew();
+        var e = Assert.Throws<ScenarioException>(() => ScenarioLoader.Parse(yaml.ToString()));
+        Assert.Contains(e.Problems, p => p.Path == "modes" && p.Message.Contains("3000 modes"));
+        Assert.True(clock.Elapsed < TimeSpan.FromSeconds(5), $"{clock.Elapsed}");
+    }
 }
