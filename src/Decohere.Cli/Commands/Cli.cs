@@ -3,6 +3,8 @@ using System.CommandLine;
 using Decohere.Core;
 using Decohere.Numerics;
 using Decohere.Scenarios;
+using Decohere.IO;
+using Decohere.Reports;
 
 namespace Decohere.Cli.Commands;
 
@@ -35,15 +37,39 @@ public static class Cli
         Console.CancelKeyPress += onCancel;
         using var onTerminate = System.Runtime.InteropServices.PosixSignalRegistration.Create(
             System.Runtime.InteropServices.PosixSignal.SIGTERM, context => { context.Cancel = true; stop.Cancel(); });
+        AppDomain.CurrentDomain.UnhandledException += OnUnhandled;
         try
         {
-            int code = await parse.InvokeAsync(new InvocationConfiguration { ProcessTerminationTimeout = null }, stop.Token);
+            // The parser's own handler prints the whole stack trace; ours prints one line.
+            int code = await parse.InvokeAsync(new InvocationConfiguration { ProcessTerminationTimeout = null, EnableDefaultExceptionHandler = false }, stop.Token);
             return stop.IsCancellationRequested ? Interrupted : code;
+        }
+        catch (Exception e) when (e is not OutOfMemoryException)
+        {
+            // Plain, not through the styled console: one line however narrow the terminal.
+            console.ErrorText.WriteLine(LastResort(e));
+            return stop.IsCancellationRequested ? Interrupted : Failure;
         }
         finally
         {
             Console.CancelKeyPress -= onCancel;
+            AppDomain.CurrentDomain.UnhandledException -= OnUnhandled;
         }
+    }
+
+    /// <summary>The one line printed for a failure no command anticipated (never a stack trace).</summary>
+    public static string LastResort(Exception e)
+    {
+        string message = e.Message.Split('\n')[0].Trim();
+        if (message.Length > 300) message = message[..300] + "...";
+        return $"error: internal failure ({e.GetType().Name}: {message}); please report it with the command line and the input files";
+    }
+
+    // A worker thread's exception ends the process whatever we do; at least it ends with one line and exit code 1.
+    private static void OnUnhandled(object? sender, UnhandledExceptionEventArgs args)
+    {
+        Console.Error.WriteLine(args.ExceptionObject is Exception e ? LastResort(e) : "error: internal failure");
+        Environment.Exit(Failure);
     }
 
     /// <summary>The optional scenario argument; without it the built-in demo runs.</summary>
@@ -73,6 +99,18 @@ public static class Cli
     /// <summary>The output directory for a scenario.</summary>
     public static string OutputDirectory(DirectoryInfo? option, Scenario scenario) =>
         option?.FullName ?? Path.Combine("results", scenario.Name);
+
+    /// <summary>
+    /// Writes a result through its report into a directory the command owns: the command's stale outputs there are
+    /// removed first and the files written are recorded in the directory's manifest.
+    /// </summary>
+    public static async Task<IReadOnlyList<string>> WriteOwned<T>(IReport<T> report, T result, string directory, OutputSet files, CancellationToken cancel)
+    {
+        var owned = IO.OutputDirectory.Claim(directory, files);
+        var paths = await report.WriteAsync(result, directory, cancel);
+        owned.Record(paths);
+        return paths;
+    }
 
     /// <summary>
     /// Runs a command body, turning the library's exceptions into messages and exit codes. The library names its

@@ -61,7 +61,7 @@ public static class FitCommand
             };
             var result = FitAnalysis.Solve(s, settings, fitData);
             cancel.ThrowIfCancellationRequested();
-            var paths = await new FitReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel);
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

@@ -30,7 +30,7 @@ public static class FitNoiseCommand
             var expected = parse.GetValue(scenario) is { } sf ? ReadoutChains.For(Cli.Load(sf)) : null;
             var result = CalibrationAnalysis.Solve(points, file.Name, new CalibrationSettings { Expected = expected });
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
-            var paths = await new CalibrationReport().WriteAsync(result, dir, cancel);
+            var paths = await Cli.WriteOwned(new CalibrationReport(), result, dir, OutputSet.FitNoise, cancel);
             if (!parse.GetValue(quiet))
             {
                 var table = new Table().Title($"[bold]noise calibration[/]: {Markup.Escape(file.Name)} ({points.Length} points)");

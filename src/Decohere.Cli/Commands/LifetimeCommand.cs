@@ -1,5 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
+using Decohere.IO;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
 using Decohere.Reports;
@@ -46,7 +47,7 @@ public static class LifetimeCommand
             };
             var result = LifetimeAnalysis.Solve(s, settings);
             cancel.ThrowIfCancellationRequested();
-            var paths = await new LifetimeReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var paths = await Cli.WriteOwned(new LifetimeReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Lifetime, cancel);
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

@@ -1,5 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
+using Decohere.IO;
 using Decohere.Analyses.Sweeps;
 using Decohere.Reports;
 
@@ -20,9 +21,12 @@ public static class MergeCommand
         command.SetAction((parse, cancel) => Cli.Guard(console, null, async () =>
         {
             string dir = parse.GetValue(directory)!.FullName;
+            // A mistyped DIR is an error below, not a new empty folder.
+            var owned = Directory.Exists(dir) ? OutputDirectory.Claim(dir, OutputSet.Sweep) : null;
             var parts = await SweepTable.ReadPartsAsync(dir, cancel);
             var result = SweepMerge.Solve(parts, dir);
             var paths = await new SweepReport().WriteAsync(result, dir, cancel);
+            owned?.Record(paths);
             if (!parse.GetValue(quiet))
                 console.Out.MarkupLineInterpolated($"merged {parts.Count} part files: {result.Rows.Count} points, {result.Failed} failed");
             console.Paths(paths);

@@ -1,5 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
+using Decohere.IO;
 using Decohere.Model.Readouts;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
@@ -47,6 +48,7 @@ public static class RunCommand
             {
                 if (!isQuiet) CheckCommand.PrintReadout(console.Out, chain);
             }
+            var owned = OutputDirectory.Claim(dir, OutputSet.Run);
             var files = new RunFiles(dir);
             var result = !isQuiet && console.Interactive
                 ? await console.Error.Progress()
@@ -61,6 +63,7 @@ public static class RunCommand
                 if (result.Sampling is { } sampling) console.Out.Write(EstimateTable(sampling));
                 console.Warnings(result.Warnings);
             }
+            owned.Record([.. paths, .. files.Paths]);
             console.Paths([.. paths, .. files.Paths]);
             return Cli.Ok;
         }));

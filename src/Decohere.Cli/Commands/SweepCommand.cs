@@ -1,5 +1,6 @@
 using Spectre.Console;
 using System.CommandLine;
+using Decohere.IO;
 using Decohere.Analyses.Sweeps;
 using Decohere.Reports;
 
@@ -50,6 +51,8 @@ public static class SweepCommand
             };
             settings.Validate();
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
+            string table = SweepReport.TableName(settings.Shard);
+            var owned = OutputDirectory.Claim(dir, settings.Shard is null ? OutputSet.Sweep : OutputSet.SweepPart(table), settings.Resume ? [table] : []);
             bool isQuiet = parse.GetValue(quiet);
             var store = new SweepChunkStore(dir);
 
@@ -75,6 +78,7 @@ public static class SweepCommand
                     $"{result.Rows.Count} points{(result.Shard is { } p ? $" (shard {p})" : "")}: {result.Computed} computed, {result.Resumed} kept from an earlier run, {result.Failed} failed");
                 console.Warnings(result.Warnings);
             }
+            owned.Record(paths);
             console.Paths(paths);
             return Cli.Ok;
         }));

@@ -1,6 +1,7 @@
 using Spectre.Console;
 using System.CommandLine;
 using System.Globalization;
+using Decohere.IO;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.Reports;
@@ -63,7 +64,7 @@ public static class ToleranceCommand
             settings.Validate();
             var s = Cli.Load(parse.GetValue(scenario));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
-            var paths = await new ToleranceReport().WriteAsync(result, Cli.OutputDirectory(parse.GetValue(output), s), cancel);
+            var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel);
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(PowerTable(result));

@@ -51,8 +51,14 @@ public static partial class Quantity
         _ => "",
     };
 
-    [GeneratedRegex(@"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([^\s\d.+-][^\s]*)?\s*$")]
+    // ASCII digits only: \d would admit Arabic-Indic and other digits that double.Parse then rejects. Every part of the
+    // pattern is unambiguous (the integer digits cannot be split between two groups), so a match or a failure takes time
+    // linear in the length; the old form \d+\.?\d* tried every split of a long digit run and was quadratic.
+    [GeneratedRegex(@"^\s*([-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*([^\s0-9.+-]\S*)?\s*$", RegexOptions.CultureInvariant)]
     private static partial Regex QuantityPattern();
+
+    /// <summary>The longest text read as a quantity: 17 significant digits, sign, point, exponent and a unit fit easily.</summary>
+    public const int MaxLength = 64;
 
     /// <summary>
     /// Parses <paramref name="text"/> as a quantity of <paramref name="dimension"/>, returning the SI value,
@@ -62,6 +68,11 @@ public static partial class Quantity
     {
         value = double.NaN;
         error = null;
+        if (text.Length > MaxLength)
+        {
+            error = $"'{text[..20]}...' ({text.Length} characters) is too long for a number (at most {MaxLength} characters){Expected(dimension)}";
+            return false;
+        }
         var match = QuantityPattern().Match(text);
         if (!match.Success)
         {
@@ -87,7 +98,9 @@ public static partial class Quantity
             if (name == unit)
             {
                 value = number * factor;
-                return true;
+                if (double.IsFinite(value)) return true;
+                error = FormattableString.Invariant($"'{text}' is not a finite number in {SiUnit(dimension)} ({number:G3} × {factor:G3} overflows)");
+                return false;
             }
         }
         var owner = Units.FirstOrDefault(kv => kv.Value.Any(u => u.Unit == unit)).Key;

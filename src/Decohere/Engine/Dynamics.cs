@@ -84,7 +84,20 @@ public sealed class Dynamics
             : scenario.Stages;
         ModeNames = [.. ModelBuilder.StateModes(scenario).Select(m => m.Name)];
         Models = [.. Stages.Select(s => ModelBuilder.Build(scenario, s))];
+        for (int i = 0; i < Models.Length; i++)
+            if (!AllFinite(Models[i].Drift) || !AllFinite(Models[i].Diffusion))
+                throw new UnstableDynamicsException(double.NaN,
+                    $"stage '{Stages[i].Name}': the model's rates overflow double precision (in model: effective, 4G²/κ with a tiny κ and a large G); use physical couplings and linewidths");
         Stabilities = [.. Models.Select(m => Stability.Of(m.Drift))];
+        for (int i = 0; i < scenario.Stages.Length; i++)
+        {
+            double folds = Stabilities[i].GrowthRate * scenario.Stages[i].DurationS;
+            if (folds > MaxGrowthFolds)
+                throw new UnstableDynamicsException(Stabilities[i].GrowthRate,
+                    $"stage '{scenario.Stages[i].Name}' amplifies at {Stabilities[i].GrowthRate:G3} s⁻¹ for {scenario.Stages[i].DurationS:G3} s: " +
+                    $"{folds:G3} e-folds of amplitude, more than {MaxGrowthFolds} (the variances would grow by e^{2 * folds:G3}, past double precision); " +
+                    $"lower the blue-sideband couplings (stages[{i}].tones) or shorten the stage");
+        }
         StageStarts = scenario.StageStarts;
         EndS = StageStarts[^1] + last.DurationS;
         if (continuePastEnd) StageStarts = StageStarts.Add(EndS);
@@ -99,10 +112,21 @@ public sealed class Dynamics
         Boundaries = boundaries.MoveToImmutable();
     }
 
+    /// <summary>
+    /// Most amplitude e-folds (growth rate × duration) one stage may amplify by. Variances grow by e^{2·folds}; at 100
+    /// folds (10⁸⁷) sums of squares over 10⁹ shots still fit in double range with room to spare, while any amplifier
+    /// or parametric instability a lab runs is a few tens of dB (under 10 folds). A blue coupling of 1 MHz held for 1 ms
+    /// is 6000 folds and gave NaN in every output.
+    /// </summary>
+    public const double MaxGrowthFolds = 100;
+
+    private static bool AllFinite(Matrix<double> m) => m.Enumerate().All(double.IsFinite);
+
     /// <summary>Builds the models, the initial state and the state at every stage boundary.</summary>
     /// <param name="scenario">The scenario.</param>
     /// <param name="continuePastEnd">Answer times past the scenario's end with its last stage, tones off (see <see cref="Stages"/>).</param>
-    /// <exception cref="UnstableDynamicsException">An <c>initial: steady</c> mode needs a stable first stage.</exception>
+    /// <exception cref="UnstableDynamicsException">An <c>initial: steady</c> mode needs a stable first stage; or a stage
+    /// amplifies by more than <see cref="MaxGrowthFolds"/> e-folds, or its rates overflow.</exception>
     public static Dynamics Solve(Scenario scenario, bool continuePastEnd = false) => new(scenario, continuePastEnd);
 
     /// <summary>True when t lies after the boundary t_b by more than the <see cref="BoundaryTolerance"/>.</summary>

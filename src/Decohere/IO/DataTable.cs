@@ -1,5 +1,4 @@
-using Parquet;
-using Parquet.Schema;
+using ParquetSharp;
 using System.Globalization;
 using Decohere.Core;
 
@@ -13,6 +12,8 @@ public sealed class DataTable
 {
     private readonly Dictionary<string, double[]> _numbers = new(StringComparer.Ordinal);
     private readonly Dictionary<string, string?[]> _texts = new(StringComparer.Ordinal);
+    // Rows where a Parquet number column is null, for the columns that have any.
+    private readonly Dictionary<string, bool[]> _nulls = new(StringComparer.Ordinal);
 
     private DataTable(string source, bool csv, int rows, IReadOnlyList<string> names)
     {
@@ -46,8 +47,11 @@ public sealed class DataTable
     {
         if (_numbers.TryGetValue(column, out var values))
         {
+            var nulls = _nulls.GetValueOrDefault(column);
             for (int r = 0; r < values.Length; r++)
-                if (!double.IsFinite(values[r]))
+                if (nulls is not null && nulls[r])
+                    throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: value is missing (null)");
+                else if (!double.IsFinite(values[r]))
                     throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: {Format(values[r])} is not a finite number");
             return values;
         }
@@ -75,7 +79,7 @@ public sealed class DataTable
     /// <summary>"t_ms (delay_s)" when the file's column was mapped to an expected name, else the name.</summary>
     public static string Describe(string column, string meaning) => column == meaning ? column : $"{column} (as {meaning})";
 
-    private static string Format(double v) => double.IsNaN(v) ? "NaN (or null)" : v.ToString(CultureInfo.InvariantCulture);
+    private static string Format(double v) => v.ToString(CultureInfo.InvariantCulture);
 
     /// <summary>Reads a CSV (comma-separated, header row) or Parquet file, chosen by its first bytes.</summary>
     /// <exception cref="InputException">The file is missing, empty or malformed.</exception>
@@ -153,72 +157,153 @@ public sealed class DataTable
         return fields;
     }
 
-    private static async Task<DataTable> LoadParquetAsync(string path, string name, CancellationToken cancel)
+    // Through ParquetSharp (Apache Arrow's C++ reader): it reads every encoding, compression and OPTIONAL column that
+    // DuckDB, pandas, polars or Spark write. The project's own Parquet.Net reader needed definition levels spelled out
+    // for OPTIONAL text and let corrupt footers escape as its own exception types.
+    private static Task<DataTable> LoadParquetAsync(string path, string name, CancellationToken cancel) => Task.Run(() =>
     {
         try
         {
-            await using var stream = File.OpenRead(path);
-            await using var reader = await ParquetReader.CreateAsync(stream, cancellationToken: cancel);
-            var fields = reader.Schema.GetDataFields();
-            var numbers = fields.ToDictionary(f => f.Name, _ => new List<double>());
-            var texts = fields.ToDictionary(f => f.Name, _ => new List<string?>());
-            long rows = 0;
-            for (int g = 0; g < reader.RowGroupCount; g++)
+            using var file = new ParquetFileReader(path);
+            var meta = file.FileMetaData;
+            var schema = meta.Schema;
+            int columns = schema.NumColumns;
+            if (meta.NumRows > int.MaxValue)
+                throw new InputException($"{name}: {meta.NumRows} rows; at most {int.MaxValue} rows are read (aggregate shots into variances per delay)");
+            var names = new string[columns];
+            for (int c = 0; c < columns; c++)
             {
-                using var group = reader.OpenRowGroupReader(g);
-                int n = checked((int)group.RowCount);
-                rows += n;
-                foreach (var f in fields)
-                {
-                    var t = Nullable.GetUnderlyingType(f.ClrType) ?? f.ClrType;
-                    if (t == typeof(string))
-                    {
-                        var buffer = new string?[n];
-                        await group.ReadAsync(f, buffer.AsMemory(), cancellationToken: cancel);
-                        texts[f.Name].AddRange(buffer);
-                    }
-                    else if (t == typeof(ReadOnlyMemory<char>))
-                    {
-                        // Required (non-nullable) text columns, as this tool writes them, read as character memory.
-                        var buffer = new ReadOnlyMemory<char>[n];
-                        await group.ReadAsync<ReadOnlyMemory<char>>(f, buffer.AsMemory(), cancellationToken: cancel);
-                        texts[f.Name].AddRange(buffer.Select(m => m.ToString()));
-                    }
-                    else if (t == typeof(double)) numbers[f.Name].AddRange(await Read<double>(group, f, n, cancel, v => v));
-                    else if (t == typeof(float)) numbers[f.Name].AddRange(await Read<float>(group, f, n, cancel, v => v));
-                    else if (t == typeof(long)) numbers[f.Name].AddRange(await Read<long>(group, f, n, cancel, v => v));
-                    else if (t == typeof(int)) numbers[f.Name].AddRange(await Read<int>(group, f, n, cancel, v => v));
-                    else if (t == typeof(short)) numbers[f.Name].AddRange(await Read<short>(group, f, n, cancel, v => v));
-                    else throw new InputException($"{name}: column {f.Name} has type {t.Name}; expected numbers (double, float, int, long) or text");
-                }
+                var column = schema.Column(c);
+                string[] path = column.Path.ToDotVector();
+                names[c] = string.Join('.', path);
+                if (column.MaxRepetitionLevel > 0 || path.Length > 1)
+                    throw new InputException($"{name}: column {names[c]} is nested (a list, map or struct); expected flat columns of numbers or text");
             }
+            var duplicate = names.GroupBy(n => n).FirstOrDefault(g => g.Count() > 1);
+            if (duplicate is not null) throw new InputException($"{name}: column '{duplicate.Key}' appears twice");
+            int rows = (int)meta.NumRows;
             if (rows == 0) throw new InputException($"{name}: the file has no rows");
-            var table = new DataTable(name, csv: false, checked((int)rows), [.. fields.Select(f => f.Name)]);
-            foreach (var f in fields)
+            var numbers = new double[columns][];
+            var missing = new bool[columns][];
+            var texts = new string?[columns][];
+            int offset = 0;
+            for (int g = 0; g < meta.NumRowGroups; g++)
             {
-                var t = Nullable.GetUnderlyingType(f.ClrType) ?? f.ClrType;
-                if (t == typeof(string) || t == typeof(ReadOnlyMemory<char>)) table._texts[f.Name] = [.. texts[f.Name]];
-                else table._numbers[f.Name] = [.. numbers[f.Name]];
+                cancel.ThrowIfCancellationRequested();
+                using var group = file.RowGroup(g);
+                int n = checked((int)group.MetaData.NumRows);
+                if (offset + (long)n > rows) throw new InputException($"{name}: the row groups hold more rows than the footer declares ({meta.NumRows})");
+                for (int c = 0; c < columns; c++)
+                {
+                    using var reader = group.Column(c).LogicalReader();
+                    if (reader is LogicalColumnReader<string> text)
+                    {
+                        (texts[c] ??= new string?[rows]).AsSpan(offset, n).Clear();
+                        ReadAll(text, texts[c].AsSpan(offset, n), name, names[c]);
+                        continue;
+                    }
+                    numbers[c] ??= new double[rows];
+                    missing[c] ??= new bool[rows];
+                    var values = numbers[c].AsSpan(offset, n);
+                    var nulls = missing[c].AsSpan(offset, n);
+                    switch (reader)
+                    {
+                        case LogicalColumnReader<double> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<double?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
+                        case LogicalColumnReader<decimal> r: ConvertRequired(r, values, nulls, v => (double)v, name, names[c]); break;
+                        case LogicalColumnReader<decimal?> r: ConvertOptional(r, values, nulls, v => (double)v, name, names[c]); break;
+                        default:
+                            throw new InputException($"{name}: column {names[c]} holds {Describe(reader.GetType())}; expected numbers (double, float, integer, decimal) or text");
+                    }
+                }
+                offset += n;
+            }
+            if (offset != rows) throw new InputException($"{name}: the row groups hold {offset} rows, the footer declares {rows}");
+            var table = new DataTable(name, csv: false, rows, names);
+            for (int c = 0; c < columns; c++)
+            {
+                if (texts[c] is { } t) table._texts[names[c]] = t;
+                else
+                {
+                    table._numbers[names[c]] = numbers[c];
+                    if (missing[c].Contains(true)) table._nulls[names[c]] = missing[c];
+                }
             }
             return table;
         }
-        catch (Exception e) when (e is IOException or ParquetException or InvalidDataException)
+        catch (Exception e) when (e is not InputException and not OperationCanceledException and not OutOfMemoryException)
         {
-            throw new InputException($"{name}: not a readable Parquet file ({e.Message})");
+            // A truncated file, a broken footer or page, an unknown codec: the native reader's message says which.
+            string reason = e.Message.Split('\n')[0].Trim();
+            throw new InputException($"{name}: not a readable Parquet file ({(reason.Length > 300 ? reason[..300] + "..." : reason)})");
+        }
+    }, cancel);
+
+    private static string Describe(Type readerType) =>
+        readerType.IsGenericType ? (Nullable.GetUnderlyingType(readerType.GetGenericArguments()[0]) ?? readerType.GetGenericArguments()[0]).Name : readerType.Name;
+
+    private static void ReadAll(LogicalColumnReader<string> reader, Span<string?> values, string file, string column)
+    {
+        int done = 0;
+        while (done < values.Length)
+        {
+            int read = reader.ReadBatch(values[done..]!);
+            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
+            done += read;
         }
     }
 
-    private static async Task<IEnumerable<double>> Read<T>(ParquetRowGroupReader group, DataField f, int n, CancellationToken cancel, Func<T, double> convert)
+    private static void ConvertRequired<T>(LogicalColumnReader<T> reader, Span<double> values, Span<bool> nulls, Func<T, double> convert, string file, string column)
         where T : struct
     {
-        if (f.IsNullable)
+        var buffer = new T[Math.Min(values.Length, 65536)];
+        int done = 0;
+        while (done < values.Length)
         {
-            var buffer = new T?[n];
-            await group.ReadAsync<T>(f, buffer.AsMemory(), cancellationToken: cancel);
-            return buffer.Select(v => v is { } x ? convert(x) : double.NaN);
+            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, values.Length - done)));
+            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
+            for (int k = 0; k < read; k++) values[done + k] = convert(buffer[k]);
+            done += read;
         }
-        var plain = new T[n];
-        await group.ReadAsync<T>(f, plain.AsMemory(), cancellationToken: cancel);
-        return plain.Select(convert);
+    }
+
+    private static void ConvertOptional<T>(LogicalColumnReader<T?> reader, Span<double> values, Span<bool> nulls, Func<T, double> convert, string file, string column)
+        where T : struct
+    {
+        var buffer = new T?[Math.Min(values.Length, 65536)];
+        int done = 0;
+        while (done < values.Length)
+        {
+            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, values.Length - done)));
+            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
+            for (int k = 0; k < read; k++)
+            {
+                if (buffer[k] is { } v) values[done + k] = convert(v);
+                else
+                {
+                    values[done + k] = double.NaN;
+                    nulls[done + k] = true;
+                }
+            }
+            done += read;
+        }
     }
 }

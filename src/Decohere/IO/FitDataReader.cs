@@ -133,8 +133,9 @@ public static class FitDataReader
                 if (v < 0) throw new InputException($"{where}{DataTable.Describe(col(name), name)}: negative variance {v}; a variance must be > 0");
                 if (v == 0) throw new InputException($"{where}{DataTable.Describe(col(name), name)}: variance 0; a variance must be > 0");
             }
-            if (shots[r] != Math.Floor(shots[r]) || shots[r] < 2)
-                throw new InputException($"{where}{DataTable.Describe(col("shots"), "shots")}: {shots[r]} shots; the shot count must be a whole number ≥ 2 (a variance needs at least two shots per delay)");
+            // The same range as readout.shots; a count like 1e300 overflowed the cast below and hung the fit.
+            if (shots[r] != Math.Floor(shots[r]) || shots[r] < 2 || shots[r] > int.MaxValue)
+                throw new InputException($"{where}{DataTable.Describe(col("shots"), "shots")}: {shots[r]} shots; the shot count must be a whole number ≥ 2 and ≤ {int.MaxValue} (a variance needs at least two shots per delay)");
             double? c = cov?[r];
             if (c is { } cv && !(vi[r] * vq[r] - cv * cv > 0))
                 throw new InputException($"{where}{DataTable.Describe(col("cov_iq"), "cov_iq")}: cov_iq = {cv} needs |cov_iq| < √(var_i·var_q) = {Math.Sqrt(vi[r] * vq[r]):G6} for a positive-definite covariance");

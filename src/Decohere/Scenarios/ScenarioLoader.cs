@@ -5,6 +5,7 @@ using System.Text;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
 using Decohere.Core;
+using Decohere.IO;
 
 namespace Decohere.Scenarios;
 
@@ -35,6 +36,9 @@ public static class ScenarioLoader
     {
         if (!File.Exists(path))
             throw new ScenarioException(path, [new ScenarioProblem(path, 0, 0, "file not found")]);
+        long length = new FileInfo(path).Length;
+        if (length > MaxFileBytes)
+            throw new ScenarioException(path, [new ScenarioProblem(path, 0, 0, $"the file has {length} bytes; a scenario file has at most {MaxFileBytes} (the 40-mode example has 7 KB)")]);
         return Parse(File.ReadAllText(path), path);
     }
 
@@ -43,10 +47,13 @@ public static class ScenarioLoader
     public static Scenario Parse(string text, string source = "scenario")
     {
         YamlMappingNode root;
+        Parser? parser = null;
         try
         {
+            if (TooDeep(text) is { } deep) throw new ScenarioException(source, [deep]);
             var stream = new YamlStream();
-            stream.Load(new StringReader(text));
+            parser = new Parser(new StringReader(text));
+            stream.Load(parser);
             if (stream.Documents.Count == 0 || stream.Documents[0].RootNode is not YamlMappingNode map)
                 throw new ScenarioException(source, [new ScenarioProblem("(file)", 1, 1, "the file is not a YAML mapping of scenario fields")]);
             root = map;
@@ -55,6 +62,16 @@ public static class ScenarioLoader
         {
             string message = (e.InnerException?.Message ?? e.Message).Split(['\n'])[0];
             throw new ScenarioException(source, [new ScenarioProblem("(yaml)", (int)e.Start.Line, (int)e.Start.Column, $"malformed YAML: {message}")]);
+        }
+        catch (ArgumentException) when (parser?.Current is { } at)
+        {
+            // The tree builder meets an event it has no node for; the fuzz test found it after a ':' on its own line, which
+            // YAML reads as a key without a name. The builder only fails at the end of the mapping, so point at the colon.
+            var lines = text.Split('\n');
+            int lone = Array.FindIndex(lines, l => l.TrimStart().StartsWith(':') && (l.TrimStart().Length == 1 || char.IsWhiteSpace(l.TrimStart()[1])));
+            throw new ScenarioException(source, [lone >= 0
+                ? new ScenarioProblem("(yaml)", lone + 1, lines[lone].IndexOf(':') + 1, "malformed YAML: a ':' without a key before it")
+                : new ScenarioProblem("(yaml)", (int)at.Start.Line, (int)at.Start.Column, $"malformed YAML: unexpected {at.GetType().Name} here")]);
         }
         catch (InvalidOperationException)
         {
@@ -67,6 +84,35 @@ public static class ScenarioLoader
         if (builder.Reader.Problems.Count > 0 || scenario is null)
             throw new ScenarioException(source, builder.Reader.Problems.OrderBy(p => p.Line).ThenBy(p => p.Column).ToList());
         return scenario;
+    }
+
+    /// <summary>Largest scenario file read: far beyond any real scenario, small enough to refuse a wrong file (a data dump) at once.</summary>
+    public const long MaxFileBytes = 16 << 20;
+
+    /// <summary>Deepest nesting of lists and mappings accepted; a scenario needs six levels.</summary>
+    public const int MaxDepth = 64;
+
+    // YamlStream builds its tree recursively, so 50 000 nested brackets overflow the stack, which no handler can catch.
+    // The event parser keeps its own stack, so a first pass with it measures the depth safely before the tree is built.
+    private static ScenarioProblem? TooDeep(string text)
+    {
+        var parser = new Parser(new StringReader(text));
+        int depth = 0;
+        while (parser.MoveNext())
+        {
+            switch (parser.Current)
+            {
+                case YamlDotNet.Core.Events.MappingStart or YamlDotNet.Core.Events.SequenceStart:
+                    if (++depth > MaxDepth)
+                        return new ScenarioProblem("(yaml)", (int)parser.Current.Start.Line, (int)parser.Current.Start.Column,
+                            $"lists and mappings are nested more than {MaxDepth} levels deep; a scenario needs at most six");
+                    break;
+                case YamlDotNet.Core.Events.MappingEnd or YamlDotNet.Core.Events.SequenceEnd:
+                    depth--;
+                    break;
+            }
+        }
+        return null;
     }
 
     /// <summary>SHA-256 of the scenario text, lower-case hex.</summary>
@@ -87,6 +133,11 @@ public static class ScenarioLoader
             var r = Reader;
             r.Mapping(root, "", TopKeys);
             string? name = r.String(r.Required(root, "", "name", "scenario name"), "name");
+            if (name is not null && OutputDirectory.NameProblem(name) is { } badName)
+            {
+                r.Report("name", YamlReader.Get(root, "name"), badName);
+                name = null;
+            }
             ModelKind model = r.Enum(YamlReader.Get(root, "model"), "model", ("full", ModelKind.Full), ("effective", ModelKind.Effective)) ?? ModelKind.Full;
             bool corrections = r.Bool(YamlReader.Get(root, "sideband_corrections"), "sideband_corrections") ?? false;
             if (corrections && model == ModelKind.Full)
@@ -113,8 +164,98 @@ public static class ScenarioLoader
             long seed = r.Integer(YamlReader.Get(root, "seed"), "seed", 0) ?? 1;
 
             if (name is null || r.Problems.Count > 0) return null;
-            return new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
+            var scenario = new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
                 step, seed, text, Hash(text));
+            CheckScales(scenario);
+            return r.Problems.Count > 0 ? null : scenario;
+        }
+
+        /// <summary>Largest rate × duration (angular rate in s⁻¹ times seconds) accepted for any one field.</summary>
+        /// <remarks>
+        /// The engine takes eigenvalues and matrix exponentials of the drift of a whole stage at once; in double
+        /// precision they resolve rates about twelve decades apart and no more (a 1e20 Hz linewidth beside a 200 kHz
+        /// cavity made the stability analysis call a damped stage unstable; 1e308 Hz overflowed to ∞ and stopped the
+        /// eigen-solver). Physical rates times the durations they act for stay far below: the demo's largest is κ·t ≈ 4e3.
+        /// </remarks>
+        public const double MaxRateTime = 1e12;
+
+        /// <summary>Most modes in one scenario.</summary>
+        public const int MaxModes = 200;
+
+        /// <summary>Largest mode frequency accepted (Hz).</summary>
+        public const double MaxFrequencyHz = 1e16;
+
+        /// <summary>Largest occupancy or noise (quanta) accepted: a 1 Hz oscillator at 5·10⁴ K; beyond it variances times shot counts leave double range.</summary>
+        public const double MaxQuanta = 1e15;
+
+        // Fields that are each valid but together leave double precision: rates times the durations they act for,
+        // and occupancies too large for sums over shots.
+        private void CheckScales(Scenario s)
+        {
+            var r = Reader;
+            double total = s.TotalDurationS;
+            if (!double.IsFinite(total))
+            {
+                r.Report("stages", null, "the stage durations add up to more than double precision holds; give durations in a physical range");
+                return;
+            }
+            void Rate(string path, double hz, double seconds, string what)
+            {
+                double product = Physics.Angular(Math.Abs(hz)) * seconds;
+                if (!(product <= MaxRateTime))
+                    r.Report(path, r.NumberNode(path), $"{what}: 2π × {hz:G3} Hz × {Quantity.Format(seconds, Dimension.Time)} {(double.IsFinite(product) ? $"= {product:G3}" : "overflows and")} exceeds {MaxRateTime:G3}; " +
+                        "a rate this far beyond the scenario's durations cannot be resolved beside its other rates in double precision (use a smaller rate or a shorter duration)");
+            }
+            void Quanta(string path, double value, double limit = MaxQuanta, string unit = "quanta")
+            {
+                if (Math.Abs(value) > limit)
+                    r.Report(path, r.NumberNode(path), $"{value:G3} is out of range: must be at most {limit:G3} {unit} " +
+                        "(10¹⁵ quanta is a 1 Hz oscillator at 5·10⁴ K; beyond it variances summed over shots leave double precision)");
+            }
+            string First(params string[] paths) => paths.FirstOrDefault(p => r.NumberNode(p) is not null) ?? paths[0];
+
+            foreach (var m in s.Modes)
+            {
+                string path = $"modes.{m.Name}";
+                Rate(First(path + ".linewidth", path + ".quality_factor"), m.LinewidthHz, total, "linewidth × total duration");
+                Quanta(First(path + ".bath.occupancy", path + ".bath.temperature"), m.Bath.Occupancy);
+            }
+            for (int i = 0; i < s.Couplings.Length; i++)
+                Rate($"couplings[{i}].rate", s.Couplings[i].RateHz, total, "rate × total duration");
+            foreach (var (name, state) in s.Initial)
+            {
+                if (state is InitialState.Thermal t) Quanta($"initial.{name}.occupancy", t.Occupancy);
+                if (state is InitialState.Coherent c)
+                {
+                    // A displacement x carries x²/2 quanta.
+                    Quanta($"initial.{name}.x", c.X, Math.Sqrt(2 * MaxQuanta), "in magnitude");
+                    Quanta($"initial.{name}.p", c.P, Math.Sqrt(2 * MaxQuanta), "in magnitude");
+                }
+            }
+            for (int i = 0; i < s.Stages.Length; i++)
+            {
+                var stage = s.Stages[i];
+                string path = $"stages[{i}]";
+                for (int k = 0; k < stage.Tones.Length; k++)
+                {
+                    string tone = $"{path}.tones[{k}]";
+                    Rate(First(tone + ".coupling", tone + ".g0", tone + ".cooperativity"), stage.Tones[k].CouplingHz, stage.DurationS, "coupling × stage duration");
+                }
+                foreach (var (mode, hz) in stage.DetuningsHz) Rate($"{path}.detuning.{mode}", hz, stage.DurationS, "detuning × stage duration");
+                foreach (var (mode, bath) in stage.BathOverrides)
+                    Quanta(First($"{path}.bath.{mode}.occupancy", $"{path}.bath.{mode}.temperature"), bath.Occupancy);
+            }
+            // A jittered frequency is a detuning of several σ in some shot.
+            foreach (var (mode, hz) in s.Jitter.FrequencyHz) Rate($"jitter.frequency.{mode}", 10 * hz, total, "10 σ × total duration");
+            foreach (var (mode, n) in s.Jitter.Occupancy) Quanta($"jitter.occupancy.{mode}", n);
+            if (s.Readout is { } ro)
+            {
+                if (ro.AddedNoise is { } added) Quanta("readout.added_noise", added);
+                for (int k = 0; k < ro.Chain.Length; k++)
+                    if (ro.Chain[k] is ChainElement.Amplifier amplifier)
+                        Quanta(First($"readout.chain[{k}].noise", $"readout.chain[{k}].noise_temperature", "readout.detector_noise"), amplifier.Noise);
+                Rate("readout.coupling", ro.AmplificationCouplingHz, ro.AmplificationDurationS, "coupling × pulse duration");
+            }
         }
 
         private ImmutableArray<Mode> Modes(YamlNode? node)
@@ -124,15 +265,22 @@ public static class ScenarioLoader
             var result = ImmutableArray.CreateBuilder<Mode>();
             if (map is null) return result.ToImmutable();
             if (map.Children.Count == 0) r.Report("modes", map, "at least one mode is needed");
-            foreach (var (keyNode, value) in map.Children)
+            if (map.Children.Count > MaxModes)
             {
-                string name = ((YamlScalarNode)keyNode).Value ?? "";
+                r.Report("modes", map, $"{map.Children.Count} modes; at most {MaxModes}: the engine's dense matrices cost the cube of the mode count " +
+                    "(checking 200 modes took 10 s, 400 modes 90 s, so a few thousand would run for hours)");
+                return result.ToImmutable();
+            }
+            foreach (var (name, key, value) in YamlReader.Entries(map))
+            {
                 string path = $"modes.{name}";
+                if (LabelProblem(name, "mode") is { } bad) r.Report(path, key, bad);
                 var m = r.Mapping(value, path, "kind", "frequency", "linewidth", "quality_factor", "bath");
                 if (m is null) continue;
                 ModeKind? kind = r.Enum(r.Required(m, path, "kind", "mechanical | cavity"), path + ".kind",
                     ("mechanical", ModeKind.Mechanical), ("cavity", ModeKind.Cavity));
-                double? f = r.Number(r.Required(m, path, "frequency", "a frequency, e.g. 4.1 MHz"), path + ".frequency", Dimension.Frequency, 0, minExclusive: true);
+                // The upper bound lies past ultraviolet light, above any resonator a cavity couples to; 1e308 Hz made Q = f/γ infinite.
+                double? f = r.Number(r.Required(m, path, "frequency", "a frequency, e.g. 4.1 MHz"), path + ".frequency", Dimension.Frequency, 0, minExclusive: true, max: MaxFrequencyHz);
                 double? linewidth = null;
                 var lw = YamlReader.Get(m, "linewidth");
                 var qf = YamlReader.Get(m, "quality_factor");
@@ -201,8 +349,6 @@ public static class ScenarioLoader
             return mode;
         }
 
-        private static readonly Dictionary<YamlNode, YamlNode> Empty = [];
-
         private static string Kind(ModeKind k) => k == ModeKind.Mechanical ? "mechanical" : "cavity";
 
         private ImmutableArray<StaticCoupling> Couplings(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
@@ -245,11 +391,15 @@ public static class ScenarioLoader
             var result = ImmutableDictionary.CreateBuilder<string, InitialState>();
             var map = r.NamedMapping(node, "initial");
             if (map is null) return result.ToImmutable();
-            foreach (var (keyNode, value) in map.Children)
+            foreach (var (name, keyNode, value) in YamlReader.Entries(map))
             {
-                string name = ((YamlScalarNode)keyNode).Value ?? "";
                 string path = $"initial.{name}";
                 var mode = ModeRef(keyNode, path, modes, null);
+                if (value is YamlScalarNode brief)
+                {
+                    if (Shorthand(brief, path, mode) is { } state0 && mode is not null) result[mode.Name] = state0;
+                    continue;
+                }
                 var m = r.Mapping(value, path, "state", "occupancy", "squeezing_db", "angle", "x", "p");
                 if (m is null) continue;
                 var stateNode = r.Required(m, path, "state", "ground | thermal | squeezed | coherent | steady");
@@ -288,6 +438,42 @@ public static class ScenarioLoader
             return result.ToImmutable();
         }
 
+        // Mode and stage names are printed to terminals and written into parameter paths (modes.<name>.linewidth,
+        // stages.<name>.tones[0].coupling), so they may hold neither control characters nor the paths' separators.
+        private static string? LabelProblem(string name, string what)
+        {
+            if (name.Length == 0) return $"a {what} name must not be empty";
+            if (name.Length > 100) return $"the {what} name is {name.Length} characters long; at most 100";
+            int control = name.AsSpan().IndexOfAnyInRange('\0', '\u001f') is var c0 and >= 0 ? c0 : name.AsSpan().IndexOfAnyInRange('\u007f', '\u009f');
+            if (control >= 0)
+                return $"the {what} name contains the control character U+{(int)name[control]:X4}; use letters, digits, '-' and '_'";
+            int separator = name.IndexOfAny(['.', '[', ']']);
+            if (separator >= 0)
+                return $"the {what} name '{name}' contains '{name[separator]}', which separates parameter paths (modes.<name>.linewidth, stages.<name>.tones[0]); use letters, digits, '-' and '_'";
+            return null;
+        }
+
+        // `drum: ground` for `drum: { state: ground }`; `drum: thermal` is the thermal state of the mode's own bath.
+        private InitialState? Shorthand(YamlScalarNode node, string path, Mode? mode)
+        {
+            string? state = Reader.String(node, path);
+            switch (state)
+            {
+                case null: return null;
+                case "ground": return new InitialState.Ground();
+                case "steady": return new InitialState.Steady();
+                case "coherent": return new InitialState.Coherent(0, 0);
+                case "thermal": return mode is null ? null : new InitialState.Thermal(mode.Bath.Occupancy);
+                case "squeezed":
+                    Reader.Report(path, node, "state squeezed needs its squeezing: write { state: squeezed, squeezing_db: 5 dB, angle: 0 deg }");
+                    return null;
+                default:
+                    string[] states = ["ground", "thermal", "squeezed", "coherent", "steady"];
+                    Reader.Report(path, node, $"'{YamlReader.Shorten(state)}' is not a state{NameSuggestion.Suggest(state, states)}; allowed: ground | thermal (at the mode's bath) | steady | coherent (at the origin), or a mapping {{ state: ..., ... }}");
+                    return null;
+            }
+        }
+
         private ImmutableArray<Stage> Stages(YamlNode? node, Dictionary<string, Mode> modes, ModelKind model)
         {
             var r = Reader;
@@ -302,6 +488,11 @@ public static class ScenarioLoader
                 var m = r.Mapping(seq.Children[i], path, "name", "duration", "tones", "bath", "detuning");
                 if (m is null) continue;
                 string? name = r.String(r.Required(m, path, "name", "stage name"), path + ".name");
+                if (name is not null && LabelProblem(name, "stage") is { } bad)
+                {
+                    r.Report(path + ".name", YamlReader.Get(m, "name"), bad);
+                    name = null;
+                }
                 if (name is not null && !names.Add(name))
                     r.Report(path + ".name", YamlReader.Get(m, "name"), $"duplicate stage name '{name}'");
                 double? duration = r.Number(r.Required(m, path, "duration", "a time, e.g. 1 ms"), path + ".duration", Dimension.Time, 0, minExclusive: true);
@@ -313,17 +504,17 @@ public static class ScenarioLoader
 
                 var baths = ImmutableDictionary.CreateBuilder<string, Bath>();
                 var bathMap = r.NamedMapping(YamlReader.Get(m, "bath"), path + ".bath");
-                foreach (var (keyNode, value) in bathMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(bathMap))
                 {
-                    var mode = ModeRef(keyNode, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", modes, null);
-                    if (BathOf(value, $"{path}.bath.{((YamlScalarNode)keyNode).Value}", mode?.FrequencyHz) is { } b && mode is not null)
+                    var mode = ModeRef(keyNode, $"{path}.bath.{modeName}", modes, null);
+                    if (BathOf(value, $"{path}.bath.{modeName}", mode?.FrequencyHz) is { } b && mode is not null)
                         baths[mode.Name] = b;
                 }
                 var detunings = ImmutableDictionary.CreateBuilder<string, double>();
                 var detMap = r.NamedMapping(YamlReader.Get(m, "detuning"), path + ".detuning");
-                foreach (var (keyNode, value) in detMap?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(detMap))
                 {
-                    string p = $"{path}.detuning.{((YamlScalarNode)keyNode).Value}";
+                    string p = $"{path}.detuning.{modeName}";
                     var mode = ModeRef(keyNode, p, modes, null);
                     if (mode?.Kind == ModeKind.Cavity && model == ModelKind.Effective)
                         r.Report(p, keyNode, "the effective model eliminates cavities at the sideband resonance; a cavity detuning needs model: full");
@@ -388,7 +579,7 @@ public static class ScenarioLoader
             var method = r.Enum(YamlReader.Get(m, "method"), path + ".method",
                 ("phenomenological", ReadoutMethod.Phenomenological), ("amplification", ReadoutMethod.Amplification)) ?? ReadoutMethod.Phenomenological;
             double? added = r.Number(YamlReader.Get(m, "added_noise"), path + ".added_noise", Dimension.Dimensionless, 0);
-            long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, 1_000_000_000_000);
+            long? shots = r.Integer(r.Required(m, path, "shots", "shots per delay"), path + ".shots", 2, int.MaxValue);
             string? stageName = r.String(r.Required(m, path, "stage", "stage the delays count from"), path + ".stage");
             int stageIndex = -1;
             if (stageName is not null)
@@ -508,9 +699,9 @@ public static class ScenarioLoader
             ImmutableDictionary<string, double> PerMode(string key, Dimension dimension, ModeKind? kind)
             {
                 var result = ImmutableDictionary.CreateBuilder<string, double>();
-                foreach (var (keyNode, value) in r.NamedMapping(YamlReader.Get(m, key), "jitter." + key)?.Children ?? (IEnumerable<KeyValuePair<YamlNode, YamlNode>>)Empty)
+                foreach (var (modeName, keyNode, value) in YamlReader.Entries(r.NamedMapping(YamlReader.Get(m, key), "jitter." + key)))
                 {
-                    string p = $"jitter.{key}.{((YamlScalarNode)keyNode).Value}";
+                    string p = $"jitter.{key}.{modeName}";
                     var mode = ModeRef(keyNode, p, modes, kind);
                     if (r.Number(value, p, dimension, 0) is { } v && mode is not null) result[mode.Name] = v;
                 }

@@ -13,6 +13,12 @@ internal sealed class YamlReader
 
     public IReadOnlyList<ScenarioProblem> Problems => _problems;
 
+    // Where each number was read, so checks across fields can point at the one to change.
+    private readonly Dictionary<string, YamlNode> _numbers = [];
+
+    /// <summary>The node a number at <paramref name="path"/> was read from, or null.</summary>
+    public YamlNode? NumberNode(string path) => _numbers.GetValueOrDefault(path);
+
     public void Report(string path, YamlNode? node, string message)
     {
         int line = node is null ? 0 : (int)node.Start.Line;
@@ -31,7 +37,12 @@ internal sealed class YamlReader
         }
         foreach (var key in map.Children.Keys)
         {
-            string name = (key as YamlScalarNode)?.Value ?? "";
+            if (key is not YamlScalarNode scalar)
+            {
+                Report(path, key, NonScalarKey(allowed));
+                continue;
+            }
+            string name = scalar.Value ?? "";
             if (allowed.Length > 0 && !allowed.Contains(name))
                 Report(Join(path, name), key, $"unknown key '{name}'{NameSuggestion.Suggest(name, allowed)}; allowed: {string.Join(", ", allowed)}");
         }
@@ -42,10 +53,26 @@ internal sealed class YamlReader
     public YamlMappingNode? NamedMapping(YamlNode? node, string path)
     {
         if (node is null) return null;
-        if (node is YamlMappingNode map) return map;
+        if (node is YamlMappingNode map)
+        {
+            foreach (var key in map.Children.Keys)
+                if (key is not YamlScalarNode) Report(path, key, NonScalarKey([]));
+            return map;
+        }
         Report(path, node, "expected a mapping of names");
         return null;
     }
+
+    /// <summary>The entries of a mapping whose key is a plain name; the others were reported by <see cref="Mapping"/> or <see cref="NamedMapping"/>.</summary>
+    public static IEnumerable<(string Name, YamlScalarNode Key, YamlNode Value)> Entries(YamlMappingNode? map)
+    {
+        if (map is null) yield break;
+        foreach (var (key, value) in map.Children)
+            if (key is YamlScalarNode scalar) yield return (scalar.Value ?? "", scalar, value);
+    }
+
+    private static string NonScalarKey(string[] allowed) =>
+        "a key must be a plain name, not a list or mapping (a '?' complex key)" + (allowed.Length > 0 ? $"; allowed: {string.Join(", ", allowed)}" : "");
 
     public YamlSequenceNode? Sequence(YamlNode? node, string path)
     {
@@ -122,26 +149,44 @@ internal sealed class YamlReader
             Report(path, node, $"{scalar.Value} is out of range: must be {range}{(unit.Length > 0 ? " " + unit : "")}");
             return null;
         }
+        _numbers[path] = node;
         return value;
     }
 
+    /// <summary>A whole number in [min, max], written plainly (20000000) or in exponent form (2e7) as long as it is exact.</summary>
     public long? Integer(YamlNode? node, string path, long min = long.MinValue, long max = long.MaxValue)
     {
         if (node is null) return null;
         string? text = String(node, path);
         if (text is null) return null;
-        if (!long.TryParse(text, NumberStyles.Integer, CultureInfo.InvariantCulture, out long value))
+        string range = $"must be a whole number from {min} to {max}";
+        // Only the number syntax of quantities (ASCII digits, bounded length); decimal holds every long exactly.
+        if (!Quantity.TryParse(text, Dimension.Dimensionless, out double approximate, out _))
         {
-            Report(path, node, $"'{text}' is not a whole number");
+            Report(path, node, $"'{Shorten(text)}' is not a whole number; {range}");
             return null;
         }
-        if (value < min || value > max)
+        if (approximate < min || approximate > max
+            || !decimal.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out decimal exact))
         {
-            Report(path, node, $"{value} is out of range: must be between {min} and {max}");
+            Report(path, node, $"{Shorten(text)} is out of range: {range}");
             return null;
         }
-        return value;
+        if (exact != decimal.Truncate(exact) || approximate != Math.Floor(approximate))
+        {
+            Report(path, node, $"'{Shorten(text)}' is not a whole number; {range}");
+            return null;
+        }
+        if (exact < min || exact > max)
+        {
+            Report(path, node, $"{Shorten(text)} is out of range: {range}");
+            return null;
+        }
+        return (long)exact;
     }
+
+    /// <summary>Long values quoted in messages are cut, so one bad scalar cannot flood the terminal.</summary>
+    public static string Shorten(string text) => text.Length <= 40 ? text : text[..37] + "...";
 
     private static string Describe(Dimension d) => d == Dimension.Dimensionless ? "number" : $"{d.ToString().ToLowerInvariant()} (number with unit)";
 

@@ -10,7 +10,7 @@ namespace Decohere.Tests.IO;
 /// <summary>Reading the three data shapes from CSV and Parquet, and every bad-data case with its message (row and column named).</summary>
 public class DataReaderTests
 {
-    private static readonly Decohere.Scenarios.Scenario Scenario = SyntheticData.SingleMode(50, 10, 1.3, 0.05);
+    internal static readonly Decohere.Scenarios.Scenario Scenario = SyntheticData.SingleMode(50, 10, 1.3, 0.05);
 
     private static async Task<FitData> ReadCsv(string text, DataOptions? options = null)
     {

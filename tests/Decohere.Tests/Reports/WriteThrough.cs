@@ -1,5 +1,6 @@
 using Decohere.Analyses.Runs;
 using Decohere.Analyses.Sweeps;
+using Decohere.IO;
 using Decohere.Reports;
 using Decohere.Scenarios;
 
@@ -12,10 +13,12 @@ public static class WriteThrough
     public static async Task<(RunResult Result, IReadOnlyList<string> Paths)> RunAsync(Scenario scenario, string directory,
         RunSettings? settings = null, CancellationToken cancel = default)
     {
+        var owned = OutputDirectory.Claim(directory, OutputSet.Run);
         var files = new RunFiles(directory);
         var result = await RunAnalysis.SolveAsync(scenario, settings, files, cancel: cancel);
-        var paths = await new RunReport().WriteAsync(result, directory, cancel);
-        return (result, [.. paths, .. files.Paths]);
+        IReadOnlyList<string> paths = [.. await new RunReport().WriteAsync(result, directory, cancel), .. files.Paths];
+        owned.Record(paths);
+        return (result, paths);
     }
 
     /// <summary>Runs a sweep (or a shard) with its chunk files in <paramref name="directory"/> and writes its table.</summary>
