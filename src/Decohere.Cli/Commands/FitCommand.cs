@@ -61,7 +61,7 @@ public static class FitCommand
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
             };
-            var result = FitAnalysis.Solve(s, settings, fitData);
+            var result = FitAnalysis.Solve(s, settings, fitData, cancel);
             cancel.ThrowIfCancellationRequested();
             var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel);
             if (!parse.GetValue(quiet))
