@@ -121,19 +121,9 @@ public static class Cli
         }
     }
 
-    /// <summary>Refuses an estimate beyond the limits, with the library's message restated in this program's options.</summary>
+    /// <summary>Refuses an estimate beyond the limits (the message is restated in this program's options by <see cref="Guard"/>).</summary>
     /// <exception cref="InputException">The estimate exceeds a limit.</exception>
-    public static void Enforce(ResourceEstimate estimate, ResourceLimits limits)
-    {
-        try
-        {
-            estimate.Enforce(limits);
-        }
-        catch (InputException e)
-        {
-            throw new InputException(InOptions(e.Message));
-        }
-    }
+    public static void Enforce(ResourceEstimate estimate, ResourceLimits limits) => estimate.Enforce(limits);
 
     /// <summary>A resource-limit message of the library with the options that change the limits.</summary>
     public static string InOptions(string message) => AsOption(message, LimitFlags)

@@ -11,13 +11,13 @@ namespace Decohere.Analyses;
 /// The rows, memory and disk each large command needs, from its scenario and settings alone (nothing is solved), so that
 /// a command beyond its <see cref="ResourceLimits"/> is refused in milliseconds. Bytes per row were measured with
 /// <c>/usr/bin/time -v</c> (peak resident set) and the file sizes on the demo scenario, then rounded up: a run holds
-/// about 290 bytes per covariance-table row (moments, grid, the plot's copies), its covariance.parquet takes under
+/// about 300 bytes per covariance-table row (moments, grid, the plot's copies), its covariance.parquet takes under
 /// 80 bytes a row, shots.parquet 41 bytes a shot.
 /// </summary>
 public static class ResourceEstimates
 {
-    /// <summary>Memory per covariance-table row (time × mode) held by a run (measured 288 B on the demo).</summary>
-    public const double CovarianceRowMemory = 300;
+    /// <summary>Memory per covariance-table row (time × mode) held by a run (measured 295 B a row between 1.6e6 and 4.8e6 rows, 320 B at 1.7e7).</summary>
+    public const double CovarianceRowMemory = 330;
 
     /// <summary>Bytes per covariance-table row on disk (nine 8-byte values, uncompressed, and the dictionary indices).</summary>
     public const double CovarianceRowDisk = 80;
@@ -50,7 +50,7 @@ public static class ResourceEstimates
         int mechanical = scenario.Modes.Count(m => m.Kind == ModeKind.Mechanical);
         var parts = new List<ResourcePart>
         {
-            new($"covariance table ({times:G3} output times × {modes} modes; output.step {Quantity.Format(scenario.OutputStepS, Dimension.Time)})",
+            new($"covariance table ({ResourceLimits.Count(times)} output times × {modes} modes; output.step {Quantity.Format(scenario.OutputStepS, Dimension.Time)})",
                 times * modes, times * modes * CovarianceRowMemory, times * (modes * CovarianceRowDisk + mechanical * PlotPointDisk)),
         };
         if (scenario.Readout is { } readout)
@@ -70,7 +70,7 @@ public static class ResourceEstimates
             // Two sample buffers, the writer's row arrays for one batch, and each thread's deviates for one trajectory.
             double memory = 2 * batch * times * components * sizeof(double) + batch * times * recorded * TrajectoryRowMemory
                 + threads * state * times * sizeof(double);
-            parts.Add(new($"trajectories ({settings.Trajectories} × {times:G3} output times × {recorded} mode{(recorded == 1 ? "" : "s")})",
+            parts.Add(new($"trajectories ({settings.Trajectories} × {ResourceLimits.Count(times)} output times × {recorded} mode{(recorded == 1 ? "" : "s")})",
                 rows, memory, rows * TrajectoryRowDisk));
         }
         return new ResourceEstimate("the run", [.. parts]);
@@ -83,14 +83,14 @@ public static class ResourceEstimates
         int axes = sweep.Grid.Axes.Length, metrics = sweep.Metrics.Length;
         // A row object with its parameter and nullable-metric arrays; on disk its columns twice (chunks, then the table).
         double memory = 200 + 16.0 * axes + 32.0 * metrics, disk = 2 * (16 + 8.0 * (axes + metrics) + 16);
-        return new ResourceEstimate("the sweep", [new($"sweep table ({points:G3} points × {metrics} metrics)", points, points * memory, points * disk)]);
+        return new ResourceEstimate("the sweep", [new($"sweep table ({ResourceLimits.Count(points)} points × {metrics} metrics)", points, points * memory, points * disk)]);
     }
 
     /// <summary><c>tolerance</c>: one row per (added noise, shots) point; the Monte Carlo draws are counted, not held.</summary>
     public static ResourceEstimate Tolerance(ToleranceSettings settings)
     {
         double points = (double)settings.AddedNoise.Length * settings.Shots.Length;
-        string draws = settings.CalibrationUncertainty is null ? "" : $", {points * settings.Draws:G3} Monte Carlo draws";
-        return new ResourceEstimate("the tolerance map", [new($"tolerance grid ({points:G3} points{draws})", points, points * 150, points * 48)]);
+        string draws = settings.CalibrationUncertainty is null ? "" : $", {ResourceLimits.Count(points * settings.Draws)} Monte Carlo draws";
+        return new ResourceEstimate("the tolerance map", [new($"tolerance grid ({ResourceLimits.Count(points)} points{draws})", points, points * 150, points * 48)]);
     }
 }

@@ -42,6 +42,9 @@ public sealed record ResourceLimits(long? MemoryBytes, long? DiskBytes)
         return (long)Math.Ceiling(v * scale);
     }
 
+    /// <summary>A count for messages: <c>2201</c>, <c>8.4e6</c>.</summary>
+    public static string Count(double n) => n < 1e6 ? n.ToString("0", CultureInfo.InvariantCulture) : n.ToString("0.##e0", CultureInfo.InvariantCulture);
+
     /// <summary>A byte count for messages: <c>5.1 GiB</c>.</summary>
     public static string Format(double bytes) => bytes switch
     {

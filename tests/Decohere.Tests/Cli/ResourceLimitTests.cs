@@ -51,7 +51,7 @@ public class ResourceLimitTests
         string dir = TestPaths.NewTempDirectory();
         try
         {
-            // 0.25 ns over 11 ms: 4.4e7 output times, inside the loader's 5e7, but 26 GB of table.
+            // 0.25 ns over 11 ms: 4.4e7 output times, inside the loader's 5e7, but 29 GB of table.
             var (code, error) = await Invoke("run", Scenario(dir, "step: 10 us", "step: 0.25 ns"), "--out", Path.Combine(dir, "out"));
             Assert.Equal(CliApp.BadInput, code);
             Assert.Contains("--max-memory", error);

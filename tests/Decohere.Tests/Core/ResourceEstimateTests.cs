@@ -50,7 +50,7 @@ public class ResourceEstimateTests
     [Fact]
     public void ALongStageAtAFineStepIsRefusedNamingTheTableAndTheLimit()
     {
-        // 42 s at 5 µs: 8.4e6 output times × 2 modes; measured peak 5.4 GB resident, 1 min 45 s.
+        // 42 s at 5 µs: 8.4e6 output times × 2 modes; measured peak 5.6 GB resident (/usr/bin/time -v), 1 min 45 s.
         var s = ScenarioLoader.Parse(ScenarioLoader.DemoText.Replace("duration: 8 ms", "duration: 42 s").Replace("step: 10 us", "step: 5 us"), "long.yaml");
         var e = ResourceEstimates.Run(s, new RunSettings());
         Assert.InRange(e.MemoryBytes, 5.0e9, 6.5e9);
