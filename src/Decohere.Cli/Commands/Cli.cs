@@ -121,11 +121,7 @@ public static class Cli
         }
     }
 
-    /// <summary>Refuses an estimate beyond the limits (the message is restated in this program's options by <see cref="Guard"/>).</summary>
-    /// <exception cref="InputException">The estimate exceeds a limit.</exception>
-    public static void Enforce(ResourceEstimate estimate, ResourceLimits limits) => estimate.Enforce(limits);
-
-    /// <summary>A resource-limit message of the library with the options that change the limits.</summary>
+    /// <summary>A resource-limit message of the library (see <see cref="ResourceEstimate.Enforce"/>) with the options that change the limits.</summary>
     public static string InOptions(string message) => AsOption(message, LimitFlags)
         .Replace("Raise the memory limit", "Raise it with --max-memory SIZE", StringComparison.Ordinal)
         .Replace("Raise the disk limit", "Raise it with --max-disk SIZE", StringComparison.Ordinal)

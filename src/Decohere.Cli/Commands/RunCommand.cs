@@ -45,7 +45,7 @@ public static class RunCommand
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
             var settings = new RunSettings(parse.GetValue(trajectories));
             settings.Validate();
-            Cli.Enforce(ResourceEstimates.Run(s, settings), limits.Read(parse));
+            ResourceEstimates.Run(s, settings).Enforce(limits.Read(parse));
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
             void OnReadout(IReadoutChain chain)

@@ -53,7 +53,7 @@ public static class SweepCommand
                 Threads = parse.GetValue(threads) ?? -1,
             };
             settings.Validate();
-            Cli.Enforce(ResourceEstimates.Sweep(sweep, settings), limits.Read(parse));
+            ResourceEstimates.Sweep(sweep, settings).Enforce(limits.Read(parse));
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             string table = SweepReport.TableName(settings.Shard);
             var owned = OutputDirectory.Claim(dir, settings.Shard is null ? OutputSet.Sweep : OutputSet.SweepPart(table), settings.Resume ? [table] : []);

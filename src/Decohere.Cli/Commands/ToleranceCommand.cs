@@ -65,7 +65,7 @@ public static class ToleranceCommand
                 Draws = parse.GetValue(draws),
             };
             settings.Validate();
-            Cli.Enforce(ResourceEstimates.Tolerance(settings), limits.Read(parse));
+            ResourceEstimates.Tolerance(settings).Enforce(limits.Read(parse));
             var s = Cli.Load(parse.GetValue(scenario));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
             var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel);
