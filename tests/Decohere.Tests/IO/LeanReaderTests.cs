@@ -64,6 +64,22 @@ public class LeanReaderTests
     }
 
     [Fact]
+    public async Task CrLfLineEndsQuotedFieldsAndAMissingLastNewlineReadAsPlainLines()
+    {
+        // RFC 4180 (common practice for CSV): CR LF line ends, fields in double quotes; a lone CR also ends a line, as in TextReader.ReadLine.
+        string path = Temp("csv");
+        await File.WriteAllTextAsync(path, "\uFEFF\"delay_s\",var_i,var_q,shots\r\n0.001,\"3.5\",3.25,1000\r0.02,30.5,29.75,2000");
+        try
+        {
+            var data = await FitDataReader.ReadAsync(path, Scenario);
+            Assert.Equal([0.001, 0.02], data.Delays.Select(d => d.DelayS));
+            Assert.Equal(3.5, data.Delays[0].VarI);
+            Assert.Equal("line 3", data.Delays[1].Row);
+        }
+        finally { File.Delete(path); }
+    }
+
+    [Fact]
     public async Task AParquetColumnTheFitDoesNotUseIsNotRead()
     {
         // DuckDB (an independent writer) adds a boolean column, a type the reader refuses where it is used.
