@@ -88,6 +88,50 @@ public static class Cli
     /// <summary>--quiet.</summary>
     public static Option<bool> QuietOption() => new("--quiet", "-q") { Description = "Print only errors and the paths written." };
 
+    /// <summary>--max-memory, --max-disk and --force: the resource bounds of a command that can be large.</summary>
+    public sealed class LimitOptions
+    {
+        /// <summary>--max-memory SIZE.</summary>
+        public Option<string?> MaxMemory { get; } = new("--max-memory")
+        {
+            Description = $"Refuse to start when the estimated peak memory exceeds SIZE (default {ResourceLimits.Format(ResourceLimits.Default.MemoryBytes!.Value)}), e.g. 8GiB.",
+        };
+
+        /// <summary>--max-disk SIZE.</summary>
+        public Option<string?> MaxDisk { get; } = new("--max-disk")
+        {
+            Description = $"Refuse to start when the estimated output exceeds SIZE (default {ResourceLimits.Format(ResourceLimits.Default.DiskBytes!.Value)}), e.g. 100GB.",
+        };
+
+        /// <summary>--force.</summary>
+        public Option<bool> Force { get; } = new("--force") { Description = "Start even when the estimated memory or output exceeds its limit." };
+
+        /// <summary>The three options, to add to a command.</summary>
+        public IEnumerable<Option> All => [MaxMemory, MaxDisk, Force];
+
+        /// <summary>The limits the options set.</summary>
+        /// <exception cref="InputException">A size is malformed; the message names the option.</exception>
+        public ResourceLimits Read(ParseResult parse)
+        {
+            if (parse.GetValue(Force)) return ResourceLimits.None;
+            var d = ResourceLimits.Default;
+            return new ResourceLimits(
+                parse.GetValue(MaxMemory) is { } m ? ResourceLimits.ParseSize(m, "--max-memory") : d.MemoryBytes,
+                parse.GetValue(MaxDisk) is { } k ? ResourceLimits.ParseSize(k, "--max-disk") : d.DiskBytes);
+        }
+    }
+
+    /// <summary>A resource-limit message of the library (see <see cref="ResourceEstimate.Enforce"/>) with the options that change the limits.</summary>
+    public static string InOptions(string message) => AsOption(message, LimitFlags)
+        .Replace("Raise the memory limit", "Raise it with --max-memory SIZE", StringComparison.Ordinal)
+        .Replace("Raise the disk limit", "Raise it with --max-disk SIZE", StringComparison.Ordinal)
+        .Replace("or skip the bound", "or skip the bound with --force", StringComparison.Ordinal);
+
+    private static readonly IReadOnlyDictionary<string, string> LimitFlags = new Dictionary<string, string>
+    {
+        ["memory limit"] = "--max-memory", ["disk limit"] = "--max-disk",
+    };
+
     /// <summary>A quantity with units for a setting (<c>"2 ms"</c>); the error names the setting, which the command maps to its option.</summary>
     /// <exception cref="InputException">Not a number of the dimension.</exception>
     public static double Quantity(string text, Dimension dimension, string setting) =>
@@ -132,7 +176,7 @@ public static class Cli
         }
         catch (InputException e)
         {
-            console.Error.MarkupLineInterpolated($"[red]error:[/] {AsOption(e.Message, flags)}");
+            console.Error.MarkupLineInterpolated($"[red]error:[/] {InOptions(AsOption(e.Message, flags))}");
             return BadInput;
         }
         catch (UnstableDynamicsException e)

@@ -44,14 +44,16 @@ public static class FitCommand
         var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
         var output = Cli.OutOption();
         var quiet = Cli.QuietOption();
+        var limits = new Cli.LimitOptions();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
         {
             scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
         };
+        foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
-            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], parse.GetValue(delayUnit), parse.GetValue(mode));
+            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], parse.GetValue(delayUnit), parse.GetValue(mode)) with { Limits = limits.Read(parse) };
             var fitData = await FitDataReader.ReadAsync(parse.GetValue(data)!.FullName, s, options, cancel);
             var settings = new FitSettings
             {
@@ -59,7 +61,7 @@ public static class FitCommand
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
             };
-            var result = FitAnalysis.Solve(s, settings, fitData);
+            var result = FitAnalysis.Solve(s, settings, fitData, cancel);
             cancel.ThrowIfCancellationRequested();
             var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel);
             if (!parse.GetValue(quiet))

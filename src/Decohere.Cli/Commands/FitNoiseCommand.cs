@@ -17,14 +17,16 @@ public static class FitNoiseCommand
         var columns = FitCommand.ColumnOption();
         var output = new Option<DirectoryInfo?>("--out") { Description = "Output directory (default: results/fit-noise/)." };
         var quiet = Cli.QuietOption();
+        var limits = new Cli.LimitOptions();
         var scenario = new Option<FileInfo?>("--scenario") { Description = "Scenario whose readout chain predicts the added noise; the calibration is compared with it." };
         var command = new Command("fit-noise", "Calibrate the readout: fit var = gain·(occupancy + ½) + added_noise to variances measured at known occupancies; write fit-noise.json.")
         {
             data, columns, scenario, output, quiet,
         };
+        foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, FitCommand.Flags, async () =>
         {
-            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], null);
+            var options = DataOptions.Parse(parse.GetValue(columns) ?? [], null) with { Limits = limits.Read(parse) };
             var file = parse.GetValue(data)!;
             var points = await FitDataReader.ReadCalibrationAsync(file.FullName, options, cancel);
             var expected = parse.GetValue(scenario) is { } sf ? ReadoutChains.For(Cli.Load(sf)) : null;

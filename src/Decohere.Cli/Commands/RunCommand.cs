@@ -2,6 +2,7 @@ using Spectre.Console;
 using System.CommandLine;
 using Decohere.IO;
 using Decohere.Model.Readouts;
+using Decohere.Analyses;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
 using Decohere.Engine;
@@ -29,12 +30,14 @@ public static class RunCommand
             DefaultValueFactory = _ => 0,
         };
         var quiet = Cli.QuietOption();
+        var limits = new Cli.LimitOptions();
         var command = new Command("run",
             "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
             "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png).")
         {
             scenario, output, seed, trajectories, quiet,
         };
+        foreach (var option in limits.All) command.Options.Add(option);
         var flags = new Dictionary<string, string> { ["trajectories"] = "--trajectories" };
         command.SetAction((parse, cancel) => Cli.Guard(console, flags, async () =>
         {
@@ -42,6 +45,7 @@ public static class RunCommand
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
             var settings = new RunSettings(parse.GetValue(trajectories));
             settings.Validate();
+            ResourceEstimates.Run(s, settings).Enforce(limits.Read(parse));
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             bool isQuiet = parse.GetValue(quiet);
             void OnReadout(IReadoutChain chain)

@@ -1,6 +1,7 @@
 using Spectre.Console;
 using System.CommandLine;
 using Decohere.IO;
+using Decohere.Analyses;
 using Decohere.Analyses.Sweeps;
 using Decohere.Reports;
 
@@ -34,10 +35,12 @@ public static class SweepCommand
         var threads = new Option<int?>("--threads") { Description = "Worker threads (default: every core)." };
         var output = Cli.OutOption();
         var quiet = Cli.QuietOption();
+        var limits = new Cli.LimitOptions();
         var command = new Command("sweep", "Evaluate metrics (steady squeezing, stability, occupancy, resolution probability, …) over a grid of parameters; write sweep.parquet and sweep.png.")
         {
             scenario, vary, zip, metrics, shard, resume, seed, threads, output, quiet,
         };
+        foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var s = Cli.Load(parse.GetValue(scenario));
@@ -50,6 +53,7 @@ public static class SweepCommand
                 Threads = parse.GetValue(threads) ?? -1,
             };
             settings.Validate();
+            ResourceEstimates.Sweep(sweep, settings).Enforce(limits.Read(parse));
             string dir = Cli.OutputDirectory(parse.GetValue(output), s);
             string table = SweepReport.TableName(settings.Shard);
             var owned = OutputDirectory.Claim(dir, settings.Shard is null ? OutputSet.Sweep : OutputSet.SweepPart(table), settings.Resume ? [table] : []);

@@ -2,6 +2,7 @@ using Spectre.Console;
 using System.CommandLine;
 using System.Globalization;
 using Decohere.IO;
+using Decohere.Analyses;
 using Decohere.Analyses.Tolerance;
 using Decohere.Core;
 using Decohere.Reports;
@@ -41,12 +42,14 @@ public static class ToleranceCommand
         var draws = new Option<int>("--draws") { Description = "Monte Carlo draws per grid point (default 4000).", DefaultValueFactory = _ => 4000 };
         var output = Cli.OutOption();
         var quiet = Cli.QuietOption();
+        var limits = new Cli.LimitOptions();
         var command = new Command("tolerance",
             "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
             "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png.")
         {
             scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, quiet,
         };
+        foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
             var settings = new ToleranceSettings
@@ -62,6 +65,7 @@ public static class ToleranceCommand
                 Draws = parse.GetValue(draws),
             };
             settings.Validate();
+            ResourceEstimates.Tolerance(settings).Enforce(limits.Read(parse));
             var s = Cli.Load(parse.GetValue(scenario));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
             var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel);

@@ -18,6 +18,9 @@ public sealed record DataOptions
     /// <summary>The mode whose shots to keep when the file has a <c>mode</c> column; null keeps the readout mode.</summary>
     public string? Mode { get; init; }
 
+    /// <summary>Memory bound of reading the file (its rows × the columns used), checked before the columns are read.</summary>
+    public ResourceLimits Limits { get; init; } = ResourceLimits.Default;
+
     /// <summary>Every column name a data file can have, for messages and validation of <see cref="Columns"/>.</summary>
     public static readonly ImmutableArray<string> KnownColumns =
         ["delay_s", "i", "q", "mode", "var_i", "var_q", "cov_iq", "shots", "occupancy", "occupancy_err"];

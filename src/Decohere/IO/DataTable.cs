@@ -4,16 +4,31 @@ using Decohere.Core;
 
 namespace Decohere.IO;
 
+/// <summary>Which columns of a data file to read, and as what.</summary>
+/// <param name="Numbers">Columns read as numbers.</param>
+/// <param name="Texts">Columns read as text (each distinct value stored once).</param>
+public sealed record ColumnSelection(IReadOnlyCollection<string> Numbers, IReadOnlyCollection<string> Texts);
+
+/// <summary>
+/// Chooses the columns to read once the file's column names and its number of data rows are known, before any value is
+/// read; it may refuse the file (an <see cref="InputException"/>), e.g. when the columns it needs would not fit the
+/// memory limit.
+/// </summary>
+public delegate ColumnSelection ColumnSelector(IReadOnlyList<string> names, long rows);
+
 /// <summary>
 /// A data file read into named columns, numeric or text, with a label for each row that error messages quote
-/// ("line 7" for CSV, "row 7" for Parquet, counting data rows from 1).
+/// ("line 7" for CSV, "row 7" for Parquet, counting data rows from 1). Only the selected columns are read, straight into
+/// arrays of numbers (CSV fields are parsed from spans of the line, never made into strings; a text column stores a code
+/// per row and each distinct value once), so a file costs 8 bytes a row for each number column used.
 /// </summary>
 public sealed class DataTable
 {
-    private readonly Dictionary<string, double[]> _numbers = new(StringComparer.Ordinal);
-    private readonly Dictionary<string, string?[]> _texts = new(StringComparer.Ordinal);
-    // Rows where a Parquet number column is null, for the columns that have any.
-    private readonly Dictionary<string, bool[]> _nulls = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, NumberColumn> _numbers = new(StringComparer.Ordinal);
+    private readonly Dictionary<string, TextColumn> _texts = new(StringComparer.Ordinal);
+    private readonly HashSet<string> _names;
+    // CSV: the data rows where the file line does not follow from the row before (blank or comment lines between them).
+    private readonly List<(int Row, int Line)> _breaks = [];
 
     private DataTable(string source, bool csv, int rows, IReadOnlyList<string> names)
     {
@@ -21,6 +36,7 @@ public sealed class DataTable
         IsCsv = csv;
         RowCount = rows;
         ColumnNames = names;
+        _names = [.. names];
     }
 
     /// <summary>The file name.</summary>
@@ -32,58 +48,76 @@ public sealed class DataTable
     /// <summary>Number of data rows.</summary>
     public int RowCount { get; }
 
-    /// <summary>Column names in file order.</summary>
+    /// <summary>Column names in file order (read or not).</summary>
     public IReadOnlyList<string> ColumnNames { get; }
 
     /// <summary>True when the file has the column.</summary>
-    public bool Has(string column) => _numbers.ContainsKey(column) || _texts.ContainsKey(column);
+    public bool Has(string column) => _names.Contains(column);
 
     /// <summary>How messages name data row r (0-based): the CSV line of the file or the Parquet row (from 1).</summary>
-    public string RowLabel(int r) => IsCsv ? $"line {_lines[r]}" : $"row {r + 1}";
+    public string RowLabel(int r)
+    {
+        if (!IsCsv) return $"row {r + 1}";
+        int lo = 0, hi = _breaks.Count - 1;
+        while (lo < hi)
+        {
+            int mid = (lo + hi + 1) / 2;
+            if (_breaks[mid].Row <= r) lo = mid; else hi = mid - 1;
+        }
+        return $"line {_breaks[lo].Line + (r - _breaks[lo].Row)}";
+    }
 
-    /// <summary>The column as finite numbers.</summary>
-    /// <exception cref="InputException">A value is missing, not a number or not finite; the message names the row and column.</exception>
+    /// <summary>The column as finite numbers (the table's own array: do not modify).</summary>
+    /// <exception cref="InputException">A value is missing, not a number or not finite; the message names the first such row and the column.</exception>
+    /// <exception cref="InvalidOperationException">The column was not selected.</exception>
     public double[] Numbers(string column, string meaning)
     {
-        if (_numbers.TryGetValue(column, out var values))
+        if (!_numbers.TryGetValue(column, out var values))
         {
-            var nulls = _nulls.GetValueOrDefault(column);
-            for (int r = 0; r < values.Length; r++)
-                if (nulls is not null && nulls[r])
-                    throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: value is missing (null)");
-                else if (!double.IsFinite(values[r]))
-                    throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: {Format(values[r])} is not a finite number");
-            return values;
+            var text = _texts.GetValueOrDefault(column) ?? throw new InvalidOperationException($"column {column} was not read");
+            _numbers[column] = values = text.ToNumbers(RowCount);
         }
-        var text = _texts[column];
-        var result = new double[text.Length];
-        for (int r = 0; r < text.Length; r++)
-        {
-            string? s = text[r];
-            if (string.IsNullOrWhiteSpace(s))
-                throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: value is missing");
-            if (!double.TryParse(s, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
-                throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: '{s}' is not a number");
-            if (!double.IsFinite(v))
-                throw new InputException($"{Source} {RowLabel(r)}, column {Describe(column, meaning)}: '{s}' is not a finite number");
-            result[r] = v;
-        }
-        _numbers[column] = result;
-        return result;
+        if (values.ProblemRow >= 0)
+            throw new InputException($"{Source} {RowLabel(values.ProblemRow)}, column {Describe(column, meaning)}: {values.Problem}");
+        return values.Values;
     }
 
     /// <summary>The column as text (numbers formatted invariantly).</summary>
-    public string?[] Texts(string column) =>
-        _texts.TryGetValue(column, out var t) ? t : [.. _numbers[column].Select(v => v.ToString(CultureInfo.InvariantCulture))];
+    /// <exception cref="InvalidOperationException">The column was not selected.</exception>
+    public string?[] Texts(string column)
+    {
+        var (codes, values) = Categories(column);
+        var result = new string?[codes.Length];
+        for (int r = 0; r < codes.Length; r++) result[r] = values[codes[r]];
+        return result;
+    }
+
+    /// <summary>The column as a code per row and the distinct values, in order of first appearance.</summary>
+    /// <exception cref="InvalidOperationException">The column was not selected.</exception>
+    public (int[] Codes, IReadOnlyList<string?> Values) Categories(string column)
+    {
+        if (!_texts.TryGetValue(column, out var text))
+        {
+            var numbers = _numbers.GetValueOrDefault(column) ?? throw new InvalidOperationException($"column {column} was not read");
+            text = new TextColumn(RowCount);
+            for (int r = 0; r < RowCount; r++) text.Codes[r] = text.Code(Format(numbers.Values[r]));
+            _texts[column] = text;
+        }
+        return (text.Codes, text.Values);
+    }
 
     /// <summary>"t_ms (delay_s)" when the file's column was mapped to an expected name, else the name.</summary>
     public static string Describe(string column, string meaning) => column == meaning ? column : $"{column} (as {meaning})";
 
     private static string Format(double v) => v.ToString(CultureInfo.InvariantCulture);
 
-    /// <summary>Reads a CSV (comma-separated, header row) or Parquet file, chosen by its first bytes.</summary>
+    /// <summary>Reads every column of a CSV (as numbers) or Parquet file (in its own type).</summary>
     /// <exception cref="InputException">The file is missing, empty or malformed.</exception>
-    public static async Task<DataTable> LoadAsync(string path, CancellationToken cancel = default)
+    public static Task<DataTable> LoadAsync(string path, CancellationToken cancel = default) => LoadAsync(path, null, cancel);
+
+    /// <summary>Reads a CSV (comma-separated, header row) or Parquet file, chosen by its first bytes: only the columns <paramref name="select"/> chooses (null: all).</summary>
+    /// <exception cref="InputException">The file is missing, empty or malformed, or <paramref name="select"/> refused it.</exception>
+    public static async Task<DataTable> LoadAsync(string path, ColumnSelector? select, CancellationToken cancel = default)
     {
         if (!File.Exists(path)) throw new InputException($"data file {path}: not found");
         string name = Path.GetFileName(path);
@@ -94,44 +128,101 @@ public sealed class DataTable
             int read = await probe.ReadAsync(magic, cancel);
             parquet = read == 4 && magic.SequenceEqual("PAR1"u8.ToArray());
         }
-        return parquet ? await LoadParquetAsync(path, name, cancel) : LoadCsv(path, name);
+        return parquet ? await LoadParquetAsync(path, name, select, cancel) : await Task.Run(() => LoadCsv(path, name, select, cancel), cancel);
     }
 
-    private static DataTable LoadCsv(string path, string name)
+    // Without a selector every column is read: as numbers from CSV, in its own type from Parquet.
+    private static ColumnSelection Select(ColumnSelector? select, IReadOnlyList<string> names, long rows) =>
+        select?.Invoke(names, rows) ?? new ColumnSelection(names, []);
+
+    // Two passes: the first counts the data rows (no field is parsed), so each selected column is allocated once at its
+    // final size; the second parses the selected fields in place.
+    private static DataTable LoadCsv(string path, string name, ColumnSelector? select, CancellationToken cancel)
     {
-        using var reader = new StreamReader(path);
-        int line = 0;
-        string? header = null;
-        for (string? text = reader.ReadLine(); text is not null; text = reader.ReadLine())
+        string[] names;
+        int headerLine;
+        long rows = 0;
+        using (var lines = new LineReader(path, name))
         {
-            line++;
-            if (text.Trim().Length == 0 || text.TrimStart().StartsWith('#')) continue;
-            header = text;
-            break;
+            ReadOnlySpan<char> text = default;
+            while (lines.Next(out text) && !IsData(text)) { }
+            if (!IsData(text)) throw new InputException($"{name}: the file is empty; expected a header row of column names");
+            headerLine = lines.Line;
+            names = [.. Split(text.ToString()).Select(c => c.Trim())];
+            var duplicate = names.GroupBy(n => n).FirstOrDefault(g => g.Count() > 1);
+            if (duplicate is not null) throw new InputException($"{name} line {headerLine}: column '{duplicate.Key}' appears twice in the header");
+            while (lines.Next(out text))
+            {
+                if (IsData(text)) rows++;
+                if ((lines.Line & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
+            }
         }
-        if (header is null) throw new InputException($"{name}: the file is empty; expected a header row of column names");
-        var names = Split(header).Select(c => c.Trim()).ToArray();
-        var duplicate = names.GroupBy(n => n).FirstOrDefault(g => g.Count() > 1);
-        if (duplicate is not null) throw new InputException($"{name} line {line}: column '{duplicate.Key}' appears twice in the header");
-        var columns = names.Select(_ => new List<string?>()).ToArray();
-        var lines = new List<int>();
-        for (string? text = reader.ReadLine(); text is not null; text = reader.ReadLine())
+        if (rows == 0) throw new InputException($"{name}: no data rows after the header");
+        if (rows > int.MaxValue) throw new InputException($"{name}: {rows} data rows; at most {int.MaxValue} rows are read (aggregate shots into variances per delay)");
+        var selection = Select(select, names, rows);
+        var table = new DataTable(name, csv: true, (int)rows, names);
+        var numbers = new NumberColumn?[names.Length];
+        var texts = new TextColumn?[names.Length];
+        for (int c = 0; c < names.Length; c++)
         {
-            line++;
-            if (text.Trim().Length == 0 || text.TrimStart().StartsWith('#')) continue;
-            var fields = Split(text);
-            if (fields.Count != names.Length)
-                throw new InputException($"{name} line {line}: {fields.Count} fields, but the header has {names.Length} columns ({string.Join(", ", names)})");
-            for (int c = 0; c < names.Length; c++) columns[c].Add(fields[c].Trim());
-            lines.Add(line);
+            if (selection.Numbers.Contains(names[c])) table._numbers[names[c]] = numbers[c] = new NumberColumn((int)rows);
+            else if (selection.Texts.Contains(names[c])) table._texts[names[c]] = texts[c] = new TextColumn((int)rows);
         }
-        if (lines.Count == 0) throw new InputException($"{name}: no data rows after the header");
-        var table = new DataTable(name, csv: true, lines.Count, names) { _lines = [.. lines] };
-        for (int c = 0; c < names.Length; c++) table._texts[names[c]] = [.. columns[c]];
+        using var reader = new LineReader(path, name);
+        while (reader.Line < headerLine && reader.Next(out _)) { }
+        int r = 0, previous = headerLine;
+        while (reader.Next(out var text))
+        {
+            if (!IsData(text)) continue;
+            if (r == rows) throw new InputException($"{name}: the file changed while it was read");
+            if (reader.Line != previous + 1 || r == 0) table._breaks.Add((r, reader.Line));
+            previous = reader.Line;
+            if ((r & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
+            if (text.Contains('"'))
+            {
+                // Quoted fields (rare in numeric files) go through the general splitter.
+                var fields = Split(text.ToString());
+                if (fields.Count != names.Length) throw FieldCount(name, reader.Line, fields.Count, names);
+                for (int c = 0; c < names.Length; c++) Store(numbers[c], texts[c], fields[c].AsSpan().Trim(), r);
+            }
+            else
+            {
+                var rest = text;
+                for (int c = 0; c < names.Length; c++)
+                {
+                    int comma = rest.IndexOf(',');
+                    if ((comma < 0) != (c == names.Length - 1)) throw FieldCount(name, reader.Line, text.Count(',') + 1, names);
+                    var field = comma < 0 ? rest : rest[..comma];
+                    Store(numbers[c], texts[c], field.Trim(), r);
+                    if (comma >= 0) rest = rest[(comma + 1)..];
+                }
+            }
+            r++;
+        }
+        if (r != rows) throw new InputException($"{name}: the file changed while it was read");
         return table;
     }
 
-    private int[] _lines = [];
+    private static bool IsData(ReadOnlySpan<char> line)
+    {
+        var t = line.TrimStart();
+        return t.Length > 0 && t[0] != '#';
+    }
+
+    private static InputException FieldCount(string name, int line, int fields, string[] names) =>
+        new($"{name} line {line}: {fields} fields, but the header has {names.Length} columns ({string.Join(", ", names)})");
+
+    private static void Store(NumberColumn? number, TextColumn? text, ReadOnlySpan<char> field, int r)
+    {
+        if (number is not null)
+        {
+            if (field.IsEmpty) number.Refuse(r, "value is missing");
+            else if (!double.TryParse(field, NumberStyles.Float, CultureInfo.InvariantCulture, out double v)) number.Refuse(r, $"'{field}' is not a number");
+            else if (!double.IsFinite(v)) number.Refuse(r, $"'{field}' is not a finite number");
+            else number.Values[r] = v;
+        }
+        else if (text is not null) text.Codes[r] = text.Code(field);
+    }
 
     private static List<string> Split(string line)
     {
@@ -157,10 +248,128 @@ public sealed class DataTable
         return fields;
     }
 
+    /// <summary>Lines of a text file as spans of one reused buffer (CR, LF or CR LF end a line, as in <see cref="TextReader.ReadLine"/>).</summary>
+    private sealed class LineReader(string path, string name) : IDisposable
+    {
+        // A data row holds a few numbers; a longer line is damage, not data, and must not take the memory.
+        private const int MaxLine = 1 << 20;
+        private readonly StreamReader _reader = new(path);
+        private char[] _buffer = new char[1 << 16];
+        private int _start, _end;
+        private bool _eof;
+
+        /// <summary>The 1-based number of the line returned last.</summary>
+        public int Line { get; private set; }
+
+        /// <summary>The next line, valid until the next call; false at the end of the file.</summary>
+        public bool Next(out ReadOnlySpan<char> line)
+        {
+            while (true)
+            {
+                var span = _buffer.AsSpan(_start, _end - _start);
+                int i = span.IndexOfAny('\n', '\r');
+                if (i >= 0 && (span[i] == '\n' || i + 1 < span.Length || _eof))
+                {
+                    line = span[..i];
+                    _start += i + (span[i] == '\r' && i + 1 < span.Length && span[i + 1] == '\n' ? 2 : 1);
+                    Line++;
+                    return true;
+                }
+                if (_eof)
+                {
+                    line = span;
+                    _start = _end;
+                    if (span.IsEmpty) return false;
+                    Line++;
+                    return true;
+                }
+                if (_start > 0)
+                {
+                    span.CopyTo(_buffer);
+                    (_start, _end) = (0, span.Length);
+                }
+                if (_end == _buffer.Length)
+                {
+                    if (_buffer.Length >= MaxLine) throw new InputException($"{name} line {Line + 1}: longer than {MaxLine} characters; a data row holds a few numbers");
+                    Array.Resize(ref _buffer, 2 * _buffer.Length);
+                }
+                int read = _reader.Read(_buffer, _end, _buffer.Length - _end);
+                if (read == 0) _eof = true;
+                else _end += read;
+            }
+        }
+
+        public void Dispose() => _reader.Dispose();
+    }
+
+    /// <summary>A number column and the first row that holds no finite number (refused when the column is used).</summary>
+    private sealed class NumberColumn(int rows)
+    {
+        public double[] Values { get; } = new double[rows];
+        public int ProblemRow { get; private set; } = -1;
+        public string? Problem { get; private set; }
+
+        public void Refuse(int row, string problem)
+        {
+            Values[row] = double.NaN;
+            if (ProblemRow >= 0 && ProblemRow <= row) return;
+            (ProblemRow, Problem) = (row, problem);
+        }
+    }
+
+    /// <summary>A text column: a code per row and each distinct value once (null for a Parquet null).</summary>
+    private sealed class TextColumn(int rows)
+    {
+        private readonly Dictionary<string, int> _codes = new(StringComparer.Ordinal);
+        private int _null = -1;
+        public int[] Codes { get; } = new int[rows];
+        public List<string?> Values { get; } = [];
+
+        public int Code(ReadOnlySpan<char> value)
+        {
+            var lookup = _codes.GetAlternateLookup<ReadOnlySpan<char>>();
+            if (lookup.TryGetValue(value, out int code)) return code;
+            return Add(value.ToString());
+        }
+
+        public int Code(string? value)
+        {
+            if (value is null) return _null >= 0 ? _null : _null = Add(null);
+            return _codes.TryGetValue(value, out int code) ? code : Add(value);
+        }
+
+        private int Add(string? value)
+        {
+            Values.Add(value);
+            if (value is not null) _codes[value] = Values.Count - 1;
+            return Values.Count - 1;
+        }
+
+        /// <summary>Parses each distinct value once.</summary>
+        public NumberColumn ToNumbers(int rows)
+        {
+            var parsed = new (double Value, string? Problem)[Values.Count];
+            for (int k = 0; k < Values.Count; k++)
+            {
+                string? s = Values[k];
+                parsed[k] = string.IsNullOrWhiteSpace(s) ? (double.NaN, "value is missing")
+                    : !double.TryParse(s, NumberStyles.Float, CultureInfo.InvariantCulture, out double v) ? (double.NaN, $"'{s}' is not a number")
+                    : !double.IsFinite(v) ? (double.NaN, $"'{s}' is not a finite number") : (v, null);
+            }
+            var column = new NumberColumn(rows);
+            for (int r = 0; r < rows; r++)
+            {
+                var (v, problem) = parsed[Codes[r]];
+                if (problem is null) column.Values[r] = v;
+                else column.Refuse(r, problem);
+            }
+            return column;
+        }
+    }
+
     // Through ParquetSharp (Apache Arrow's C++ reader): it reads every encoding, compression and OPTIONAL column that
-    // DuckDB, pandas, polars or Spark write. The project's own Parquet.Net reader needed definition levels spelled out
-    // for OPTIONAL text and let corrupt footers escape as its own exception types.
-    private static Task<DataTable> LoadParquetAsync(string path, string name, CancellationToken cancel) => Task.Run(() =>
+    // DuckDB, pandas, polars or Spark write. Only the selected columns' chunks are read, row group by row group.
+    private static Task<DataTable> LoadParquetAsync(string path, string name, ColumnSelector? select, CancellationToken cancel) => Task.Run(() =>
     {
         try
         {
@@ -183,9 +392,10 @@ public sealed class DataTable
             if (duplicate is not null) throw new InputException($"{name}: column '{duplicate.Key}' appears twice");
             int rows = (int)meta.NumRows;
             if (rows == 0) throw new InputException($"{name}: the file has no rows");
-            var numbers = new double[columns][];
-            var missing = new bool[columns][];
-            var texts = new string?[columns][];
+            var selection = Select(select, names, rows);
+            var wanted = Enumerable.Range(0, columns).Where(c => selection.Numbers.Contains(names[c]) || selection.Texts.Contains(names[c])).ToArray();
+            var numbers = new NumberColumn?[columns];
+            var texts = new TextColumn?[columns];
             int offset = 0;
             for (int g = 0; g < meta.NumRowGroups; g++)
             {
@@ -193,43 +403,39 @@ public sealed class DataTable
                 using var group = file.RowGroup(g);
                 int n = checked((int)group.MetaData.NumRows);
                 if (offset + (long)n > rows) throw new InputException($"{name}: the row groups hold more rows than the footer declares ({meta.NumRows})");
-                for (int c = 0; c < columns; c++)
+                foreach (int c in wanted)
                 {
                     using var reader = group.Column(c).LogicalReader();
                     if (reader is LogicalColumnReader<string> text)
                     {
-                        (texts[c] ??= new string?[rows]).AsSpan(offset, n).Clear();
-                        ReadAll(text, texts[c].AsSpan(offset, n), name, names[c]);
+                        ReadAll(text, texts[c] ??= new TextColumn(rows), offset, n, name, names[c]);
                         continue;
                     }
-                    numbers[c] ??= new double[rows];
-                    missing[c] ??= new bool[rows];
-                    var values = numbers[c].AsSpan(offset, n);
-                    var nulls = missing[c].AsSpan(offset, n);
+                    var values = numbers[c] ??= new NumberColumn(rows);
                     switch (reader)
                     {
-                        case LogicalColumnReader<double> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<double?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<float> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<float?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<long> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<long?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<int> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<int?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<short> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<short?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<sbyte> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<sbyte?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ulong> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ulong?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<uint> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<uint?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ushort> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ushort?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<byte> r: ConvertRequired(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<byte?> r: ConvertOptional(r, values, nulls, v => v, name, names[c]); break;
-                        case LogicalColumnReader<decimal> r: ConvertRequired(r, values, nulls, v => (double)v, name, names[c]); break;
-                        case LogicalColumnReader<decimal?> r: ConvertOptional(r, values, nulls, v => (double)v, name, names[c]); break;
+                        case LogicalColumnReader<double> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<double?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<decimal> r: ConvertRequired(r, values, offset, n, v => (double)v, name, names[c]); break;
+                        case LogicalColumnReader<decimal?> r: ConvertOptional(r, values, offset, n, v => (double)v, name, names[c]); break;
                         default:
                             throw new InputException($"{name}: column {names[c]} holds {Describe(reader.GetType())}; expected numbers (double, float, integer, decimal) or text");
                     }
@@ -238,14 +444,10 @@ public sealed class DataTable
             }
             if (offset != rows) throw new InputException($"{name}: the row groups hold {offset} rows, the footer declares {rows}");
             var table = new DataTable(name, csv: false, rows, names);
-            for (int c = 0; c < columns; c++)
+            foreach (int c in wanted)
             {
                 if (texts[c] is { } t) table._texts[names[c]] = t;
-                else
-                {
-                    table._numbers[names[c]] = numbers[c];
-                    if (missing[c].Contains(true)) table._nulls[names[c]] = missing[c];
-                }
+                else if (numbers[c] is { } v) table._numbers[names[c]] = v;
             }
             return table;
         }
@@ -260,50 +462,56 @@ public sealed class DataTable
     private static string Describe(Type readerType) =>
         readerType.IsGenericType ? (Nullable.GetUnderlyingType(readerType.GetGenericArguments()[0]) ?? readerType.GetGenericArguments()[0]).Name : readerType.Name;
 
-    private static void ReadAll(LogicalColumnReader<string> reader, Span<string?> values, string file, string column)
+    private const int Batch = 65536;
+
+    private static void ReadAll(LogicalColumnReader<string> reader, TextColumn column, int offset, int count, string file, string name)
     {
+        var buffer = new string?[Math.Min(count, Batch)];
         int done = 0;
-        while (done < values.Length)
+        while (done < count)
         {
-            int read = reader.ReadBatch(values[done..]!);
-            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
+            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, count - done))!);
+            if (read <= 0) throw new InputException($"{file}: column {name} ends after {done} of {count} rows of its row group");
+            for (int k = 0; k < read; k++) column.Codes[offset + done + k] = column.Code(buffer[k]);
             done += read;
         }
     }
 
-    private static void ConvertRequired<T>(LogicalColumnReader<T> reader, Span<double> values, Span<bool> nulls, Func<T, double> convert, string file, string column)
+    private static void ConvertRequired<T>(LogicalColumnReader<T> reader, NumberColumn column, int offset, int count, Func<T, double> convert, string file, string name)
         where T : struct
     {
-        var buffer = new T[Math.Min(values.Length, 65536)];
+        var buffer = new T[Math.Min(count, Batch)];
         int done = 0;
-        while (done < values.Length)
+        while (done < count)
         {
-            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, values.Length - done)));
-            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
-            for (int k = 0; k < read; k++) values[done + k] = convert(buffer[k]);
+            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, count - done)));
+            if (read <= 0) throw new InputException($"{file}: column {name} ends after {done} of {count} rows of its row group");
+            for (int k = 0; k < read; k++) Put(column, offset + done + k, convert(buffer[k]));
             done += read;
         }
     }
 
-    private static void ConvertOptional<T>(LogicalColumnReader<T?> reader, Span<double> values, Span<bool> nulls, Func<T, double> convert, string file, string column)
+    private static void ConvertOptional<T>(LogicalColumnReader<T?> reader, NumberColumn column, int offset, int count, Func<T, double> convert, string file, string name)
         where T : struct
     {
-        var buffer = new T?[Math.Min(values.Length, 65536)];
+        var buffer = new T?[Math.Min(count, Batch)];
         int done = 0;
-        while (done < values.Length)
+        while (done < count)
         {
-            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, values.Length - done)));
-            if (read <= 0) throw new InputException($"{file}: column {column} ends after {done} of {values.Length} rows of its row group");
+            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, count - done)));
+            if (read <= 0) throw new InputException($"{file}: column {name} ends after {done} of {count} rows of its row group");
             for (int k = 0; k < read; k++)
             {
-                if (buffer[k] is { } v) values[done + k] = convert(v);
-                else
-                {
-                    values[done + k] = double.NaN;
-                    nulls[done + k] = true;
-                }
+                if (buffer[k] is { } v) Put(column, offset + done + k, convert(v));
+                else column.Refuse(offset + done + k, "value is missing (null)");
             }
             done += read;
         }
+    }
+
+    private static void Put(NumberColumn column, int row, double value)
+    {
+        if (double.IsFinite(value)) column.Values[row] = value;
+        else column.Refuse(row, $"{Format(value)} is not a finite number");
     }
 }

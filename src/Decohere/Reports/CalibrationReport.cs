@@ -37,13 +37,7 @@ public sealed class CalibrationReport : IReport<CalibrationResult>
         },
         ["derived"] = new JsonObject { ["added_noise_input_referred"] = FitReport.EstimateJson(r.AddedNoiseInputReferred, "quanta") },
         ["correlation"] = SummaryJson.Number(r.Correlation),
-        ["goodness_of_fit"] = new JsonObject
-        {
-            ["deviance"] = SummaryJson.Number(r.Goodness.Deviance),
-            ["degrees_of_freedom"] = r.Goodness.DegreesOfFreedom,
-            ["reduced_chi_square"] = SummaryJson.Number(r.Goodness.ReducedChiSquare),
-            ["p_value"] = SummaryJson.Number(r.Goodness.PValue),
-        },
+        ["goodness_of_fit"] = FitReport.GoodnessJson(r.Goodness),
         ["version"] = Provenance.Version,
         ["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]),
     };

@@ -8,12 +8,14 @@ namespace Decohere.Reports;
 /// <summary>
 /// estimates.parquet: one row per readout delay with the sample moments of (i, q), the added noise subtracted, and for each
 /// inferred quantity Q ∈ {var_x, var_p, cov_xp, var_min, var_max, occupancy, squeezing_db} the columns Q, Q_low, Q_high
-/// (two-sided interval), Q_model (covariance engine) and Q_z ((Q − Q_model)/σ).
+/// (two-sided interval), Q_model (covariance engine) and Q_z ((Q − Q_model)/σ), null where a value is undefined
+/// (squeezing_db when the inferred var_min ≤ 0); uncertainty_product = var_min·var_max and uncertainty_violated, true when
+/// its whole interval lies below ¼.
 /// </summary>
 public static class EstimatesTable
 {
     /// <summary>The inferred quantities, in column order.</summary>
-    public static readonly string[] Quantities = ["var_x", "var_p", "cov_xp", "var_min", "var_max", "occupancy", "squeezing_db"];
+    public static readonly string[] Quantities = ["var_x", "var_p", "cov_xp", "var_min", "var_max", "occupancy", "squeezing_db", "uncertainty_product"];
 
     /// <summary>The columns, in file order.</summary>
     public static readonly ColumnSpec[] Columns =
@@ -23,13 +25,16 @@ public static class EstimatesTable
         ColumnSpec.Double("cov_iq"), ColumnSpec.Double("added_noise"), ColumnSpec.Double("confidence"),
         .. Quantities.SelectMany(q => new[]
         {
-            ColumnSpec.Double(q), ColumnSpec.Double(q + "_low"), ColumnSpec.Double(q + "_high"),
-            ColumnSpec.Double(q + "_model"), ColumnSpec.Double(q + "_z"),
+            ColumnSpec.NullableDouble(q), ColumnSpec.NullableDouble(q + "_low"), ColumnSpec.NullableDouble(q + "_high"),
+            ColumnSpec.NullableDouble(q + "_model"), ColumnSpec.NullableDouble(q + "_z"),
         }),
+        ColumnSpec.Bool("uncertainty_violated"),
     ];
 
     /// <summary>The estimates of a delay in <see cref="Quantities"/> order.</summary>
-    public static Estimate[] Row(ReadoutEstimate e) => [e.VarX, e.VarP, e.CovXP, e.VarMin, e.VarMax, e.Occupancy, e.SqueezingDb];
+    public static Estimate[] Row(ReadoutEstimate e) => [e.VarX, e.VarP, e.CovXP, e.VarMin, e.VarMax, e.Occupancy, e.SqueezingDb, e.UncertaintyProduct];
+
+    private static double? Finite(double v) => double.IsFinite(v) ? v : null;
 
     /// <summary>Writes the table atomically.</summary>
     public static Task WriteAsync(string path, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, double confidence,
@@ -48,12 +53,13 @@ public static class EstimatesTable
         for (int q = 0; q < Quantities.Length; q++)
         {
             var column = estimates.Select(e => Row(e)[q]).ToArray();
-            data.Add(column.Select(v => v.Value).ToArray());
-            data.Add(column.Select(v => v.Low).ToArray());
-            data.Add(column.Select(v => v.High).ToArray());
-            data.Add(column.Select(v => v.Model).ToArray());
-            data.Add(column.Select(v => v.Z).ToArray());
+            data.Add(column.Select(v => Finite(v.Value)).ToArray());
+            data.Add(column.Select(v => Finite(v.Low)).ToArray());
+            data.Add(column.Select(v => Finite(v.High)).ToArray());
+            data.Add(column.Select(v => Finite(v.Model)).ToArray());
+            data.Add(column.Select(v => Finite(v.Z)).ToArray());
         }
+        data.Add(estimates.Select(e => e.ViolatesUncertainty).ToArray());
         return ParquetTable.WriteAsync(path, Columns, data, metadata.ToKeyValues(), cancel: cancel);
     }
 }

@@ -20,9 +20,9 @@ public sealed class FitReport : IReport<FitResult>
         ColumnSpec.NullableDouble("var_q_low"), ColumnSpec.NullableDouble("var_q_high"),
         ColumnSpec.NullableDouble("occupancy"), ColumnSpec.NullableDouble("occupancy_err"),
         ColumnSpec.Double("var_i_model"), ColumnSpec.Double("var_q_model"), ColumnSpec.Double("cov_iq_model"),
-        ColumnSpec.Double("var_i_model_low"), ColumnSpec.Double("var_i_model_high"),
-        ColumnSpec.Double("var_q_model_low"), ColumnSpec.Double("var_q_model_high"),
-        ColumnSpec.Double("occupancy_model"), ColumnSpec.Double("occupancy_model_low"), ColumnSpec.Double("occupancy_model_high"),
+        ColumnSpec.NullableDouble("var_i_model_low"), ColumnSpec.NullableDouble("var_i_model_high"),
+        ColumnSpec.NullableDouble("var_q_model_low"), ColumnSpec.NullableDouble("var_q_model_high"),
+        ColumnSpec.Double("occupancy_model"), ColumnSpec.NullableDouble("occupancy_model_low"), ColumnSpec.NullableDouble("occupancy_model_high"),
         ColumnSpec.NullableDouble("residual_i"), ColumnSpec.NullableDouble("residual_q"), ColumnSpec.NullableDouble("residual_occupancy"),
     ];
 
@@ -41,18 +41,24 @@ public sealed class FitReport : IReport<FitResult>
 
     internal static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
     {
-        var o = new JsonObject
-        {
-            ["value"] = SummaryJson.Number(e.Value),
-            ["stderr"] = SummaryJson.Number(e.StandardError),
-            ["ci_low"] = SummaryJson.Number(e.Low),
-            ["ci_high"] = SummaryJson.Number(e.High),
-            ["ci_method"] = e.Method,
-        };
+        var o = new JsonObject();
+        SummaryJson.Set(o, "value", e.Value, "not a finite number at the optimum");
+        SummaryJson.Set(o, "stderr", e.StandardError, "the observed information is singular (the data do not fix this parameter alone)");
+        SummaryJson.Set(o, "ci_low", e.Low, "the profile did not reach the confidence level below the estimate");
+        SummaryJson.Set(o, "ci_high", e.High, "the profile did not reach the confidence level above the estimate: unbounded");
+        o["ci_method"] = e.Method;
         if (unit is not null) o["unit"] = unit;
         // An end the profile never reached is the domain's bound (0) or unbounded (null); say which.
         if (!e.LowReached) o["ci_low_is_bound"] = true;
         if (!e.HighReached) o["ci_high_unbounded"] = true;
+        return o;
+    }
+
+    internal static JsonObject GoodnessJson(GoodnessOfFit g)
+    {
+        var o = new JsonObject { ["deviance"] = SummaryJson.Number(g.Deviance), ["degrees_of_freedom"] = g.DegreesOfFreedom };
+        SummaryJson.Set(o, "reduced_chi_square", g.ReducedChiSquare, "no degrees of freedom left to test the fit");
+        SummaryJson.Set(o, "p_value", g.PValue, "no degrees of freedom left to test the fit");
         return o;
     }
 
@@ -94,13 +100,7 @@ public sealed class FitReport : IReport<FitResult>
             ["parameters"] = new JsonArray([.. fit.Parameters.Select(e => (JsonNode)JsonValue.Create(e.Name))]),
             ["matrix"] = new JsonArray([.. Enumerable.Range(0, p).Select(i => (JsonNode)new JsonArray([.. Enumerable.Range(0, p).Select(j => SummaryJson.Number(fit.Correlation[i, j]))]))]),
         };
-        root["goodness_of_fit"] = new JsonObject
-        {
-            ["deviance"] = SummaryJson.Number(fit.Goodness.Deviance),
-            ["degrees_of_freedom"] = fit.Goodness.DegreesOfFreedom,
-            ["reduced_chi_square"] = SummaryJson.Number(fit.Goodness.ReducedChiSquare),
-            ["p_value"] = SummaryJson.Number(fit.Goodness.PValue),
-        };
+        root["goodness_of_fit"] = GoodnessJson(fit.Goodness);
         root["evaluations"] = fit.Evaluations;
         root["elapsed_s"] = Math.Round(fit.ElapsedSeconds, 3);
         root["warnings"] = new JsonArray([.. fit.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
@@ -142,9 +142,10 @@ public sealed class FitReport : IReport<FitResult>
             var m = d.Model;
             var s = d.ModelSd;
             Val(m.VarI); Val(m.VarQ); Val(m.CovIQ);
-            Val(m.VarI - z * s.VarI); Val(m.VarI + z * s.VarI);
-            Val(m.VarQ - z * s.VarQ); Val(m.VarQ + z * s.VarQ);
-            Val(m.Occupancy); Val(m.Occupancy - z * s.Occupancy); Val(m.Occupancy + z * s.Occupancy);
+            // The band is null where the observed information is singular (no standard deviation of the model).
+            Opt(m.VarI - z * s.VarI); Opt(m.VarI + z * s.VarI);
+            Opt(m.VarQ - z * s.VarQ); Opt(m.VarQ + z * s.VarQ);
+            Val(m.Occupancy); Opt(m.Occupancy - z * s.Occupancy); Opt(m.Occupancy + z * s.Occupancy);
             if (variances)
             {
                 // Standardised residual of a sample variance: (s² − σ²)/(σ²·√(2/ν)).

@@ -50,38 +50,36 @@ public sealed class LifetimeReport : IReport<LifetimeResult>
         root["threshold_var"] = c.ThresholdVariance;
         root["var_min_at_reference"] = SummaryJson.Number(c.InitialVarMin);
         root["squeezing_db_at_reference"] = SummaryJson.Number(c.InitialSqueezingDb);
-        root["physical_lifetime_s"] = Nullable(c.PhysicalLifetimeS);
-        root["physical_status"] = Status(c.PhysicalStatus);
+        string physical = Status(c.PhysicalStatus), observable = Status(c.ObservableStatus);
+        SummaryJson.Set(root, "physical_lifetime_s", c.PhysicalLifetimeS, physical);
+        root["physical_status"] = physical;
         root["physical_past_scenario_end"] = c.PhysicalPastScenarioEnd;
-        root["approximate_lifetime_s"] = Nullable(c.ApproximateLifetimeS);
+        SummaryJson.Set(root, "approximate_lifetime_s", c.ApproximateLifetimeS,
+            $"n_th + ½ = {c.BathOccupancy + 0.5:G4} is not above threshold_var: the single-mode law never reaches the threshold");
         root["approximation"] = "single-mode law t* = (1/γ)·ln[(n_th + ½ − var_min(0)) / (n_th + ½ − threshold_var)]";
         root["decay_rate_per_s"] = c.DecayRate;
         root["bath_occupancy"] = c.BathOccupancy;
         root["thermal_decoherence_rate_per_s"] = Physics.ThermalDecoherenceRate(c.DecayRate, c.BathOccupancy);
-        root["ratio"] = Nullable(c.Ratio);
-        root["observable_lifetime_s"] = Nullable(c.ObservableLifetimeS);
-        root["observable_status"] = Status(c.ObservableStatus);
+        SummaryJson.Set(root, "ratio", c.Ratio, "the physical or the approximate lifetime is not a positive number");
+        SummaryJson.Set(root, "observable_lifetime_s", c.ObservableLifetimeS, observable);
+        root["observable_status"] = observable;
         root["observable_criterion"] = "first delay at which the power (probability that the one-sided χ² upper confidence bound of var − added_noise is below threshold_var) falls to 0.5, the median-measurement criterion";
-        root["power_at_reference"] = Nullable(c.PowerAtStart);
+        SummaryJson.Set(root, "power_at_reference", c.PowerAtStart, "no_readout");
         root["readout"] = c.Readout is { } r
             ? new JsonObject { ["method"] = r.Method, ["added_noise"] = r.AddedNoise, ["shots"] = r.Shots, ["confidence"] = r.Confidence }
             : null;
-        root["sensitivities"] = new JsonArray(report.Sensitivities.Select(s => (JsonNode)new JsonObject
+        root["sensitivities"] = new JsonArray(report.Sensitivities.Select(s =>
         {
-            ["parameter"] = s.Parameter,
-            ["change"] = s.Change,
-            ["from"] = s.From,
-            ["to"] = s.To,
-            ["physical_lifetime_s"] = Nullable(s.PhysicalLifetimeS),
-            ["observable_lifetime_s"] = Nullable(s.ObservableLifetimeS),
-            ["physical_change_s"] = Nullable(s.PhysicalChangeS),
-            ["observable_change_s"] = Nullable(s.ObservableChangeS),
+            var o = new JsonObject { ["parameter"] = s.Parameter, ["change"] = s.Change, ["from"] = s.From, ["to"] = s.To };
+            SummaryJson.Set(o, "physical_lifetime_s", s.PhysicalLifetimeS, "the changed scenario's squeezing does not cross the threshold within the horizon");
+            SummaryJson.Set(o, "observable_lifetime_s", s.ObservableLifetimeS, "the changed scenario has no observable lifetime (no readout, or never resolved)");
+            SummaryJson.Set(o, "physical_change_s", s.PhysicalChangeS, "one of the two physical lifetimes does not exist");
+            SummaryJson.Set(o, "observable_change_s", s.ObservableChangeS, "one of the two observable lifetimes does not exist");
+            return (JsonNode)o;
         }).ToArray());
         root["notes"] = new JsonArray(c.Notes.Select(n => (JsonNode)JsonValue.Create(n)).ToArray());
         return root;
     }
-
-    private static JsonNode? Nullable(double? v) => v is { } x ? SummaryJson.Number(x) : null;
 
     /// <summary>Status as written in files: crossed, not_squeezed_at_start, beyond_horizon, never_resolved, no_readout.</summary>
     public static string Status(LifetimeStatus s) => s switch

@@ -50,15 +50,28 @@ public static class ReadoutSummary
             var row = new JsonObject { ["delay_s"] = sampler.Delays[k].DelayS, ["time_s"] = sampler.Delays[k].TimeS, ["shots"] = e.Shots };
             var values = EstimatesTable.Row(e);
             for (int q = 0; q < values.Length; q++)
-                row[EstimatesTable.Quantities[q]] = new JsonObject
-                {
-                    ["value"] = SummaryJson.Number(values[q].Value), ["low"] = SummaryJson.Number(values[q].Low),
-                    ["high"] = SummaryJson.Number(values[q].High), ["model"] = SummaryJson.Number(values[q].Model),
-                    ["z"] = SummaryJson.Number(values[q].Z),
-                };
+                row[EstimatesTable.Quantities[q]] = EstimateJson(values[q], e);
+            row["uncertainty_violated"] = e.ViolatesUncertainty;
             delays.Add(row);
         }
         json["estimates"] = delays;
         return json;
+    }
+
+    /// <summary>
+    /// One estimate as <c>value, low, high, model, z</c>, each null with a <c>_reason</c> where undefined: only squeezing in dB
+    /// can be, as 10·log10(½/var_min) has no value for var_min ≤ 0 (more noise subtracted than measured, or an interval
+    /// end that reaches 0: no upper bound on the squeezing).
+    /// </summary>
+    private static JsonObject EstimateJson(Estimate v, ReadoutEstimate e)
+    {
+        var o = new JsonObject();
+        var min = e.VarMin;
+        SummaryJson.Set(o, "value", v.Value, $"the inferred var_min = {min.Value:G4} is not positive: the added noise subtracted exceeds the measured variance");
+        SummaryJson.Set(o, "low", v.Low, $"the var_min interval lies at or below 0 (its high end {min.High:G4}): no lower bound on the squeezing");
+        SummaryJson.Set(o, "high", v.High, $"the var_min interval reaches {min.Low:G4} ≤ 0: no upper bound on the squeezing");
+        SummaryJson.Set(o, "model", v.Model, "no model prediction");
+        SummaryJson.Set(o, "z", v.Z, "no finite estimate to compare with the model");
+        return o;
     }
 }

@@ -36,6 +36,8 @@ public sealed class RunReport : IReport<RunResult>
             paths.AddRange([estimates, estimatesPng]);
             json["readout"] = ReadoutSummary.Build(sampling.Sampler, sampling.Estimates, settings);
         }
+        // The run's warnings: the check's and the estimates' (an uncertainty-relation violation names its delay).
+        json["warnings"] = new JsonArray([.. result.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
         if (result.Trajectories is { } t)
             json["trajectories"] = new JsonObject { ["count"] = t.Count, ["times"] = t.Times, ["seed"] = result.Scenario.Seed };
         cancel.ThrowIfCancellationRequested();

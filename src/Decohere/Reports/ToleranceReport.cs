@@ -62,13 +62,22 @@ public sealed class ToleranceReport : IReport<ToleranceResult>
         root["calibration_uncertainty"] = s.CalibrationUncertainty is { } c ? c : null;
         root["monte_carlo_draws"] = s.CalibrationUncertainty is null ? null : s.Draws;
         root["power_definition"] = "probability that the one-sided χ² upper confidence bound of (sample variance − added_noise) is below threshold_var";
-        root["largest_added_noise"] = new JsonArray(r.LargestAddedNoise.Select(x => (JsonNode)new JsonObject
+        root["largest_added_noise"] = new JsonArray(r.LargestAddedNoise.Select(x =>
         {
-            ["shots"] = x.Shots, ["added_noise"] = x.AddedNoise is { } n ? SummaryJson.Number(n) : null,
+            var o = new JsonObject { ["shots"] = x.Shots };
+            SummaryJson.Set(o, "added_noise", x.AddedNoise, x.AddedNoise is null
+                ? "the target power is not reached even without added noise"
+                : "unbounded: the target power holds for any added noise up to 1e12 quanta");
+            return (JsonNode)o;
         }).ToArray());
-        root["fewest_shots"] = new JsonArray(r.FewestShots.Select(x => (JsonNode)new JsonObject
+        root["fewest_shots"] = new JsonArray(r.FewestShots.Select(x =>
         {
-            ["added_noise"] = x.AddedNoise, ["shots"] = x.Shots,
+            var o = new JsonObject { ["added_noise"] = x.AddedNoise, ["shots"] = x.Shots };
+            if (x.Shots is null)
+                o["shots" + SummaryJson.ReasonSuffix] = r.VarMin >= r.ThresholdVariance
+                    ? "var_min is not below the threshold: no number of shots resolves it"
+                    : "more than 1e9 shots would be needed";
+            return (JsonNode)o;
         }).ToArray());
         if (r.ScenarioReadout is { } own)
         {

@@ -87,12 +87,7 @@ public sealed class TrajectorySampler
     {
         int block = Math.Max(1, _settings.BlockTrajectories);
         int values = Times.Length * Components.Length;
-        long perBatch = Math.Max(block, (_settings.BatchShots / Math.Max(1, values)) / block * block);
-        // Enough blocks per batch to keep every thread busy to the end of the batch, within 16 M values (128 MB) per buffer.
-        int threads = _settings.MaxDegreeOfParallelism is int m && m > 0 ? m : Environment.ProcessorCount;
-        long balanced = Math.Min(8L * threads * block, Math.Max(block, (16L << 20) / Math.Max(1, values) / block * block));
-        perBatch = Math.Min(Math.Max(perBatch, balanced), Math.Max(block, (count + block - 1) / block * block));
-        int blocksPerBatch = (int)(perBatch / block);
+        int blocksPerBatch = (int)(BatchTrajectories(count, Times.Length, Components.Length, _settings) / block);
         TrajectoryBatch[] buffers = [new(blocksPerBatch * block, Times.Length, Components.Length), new(blocksPerBatch * block, Times.Length, Components.Length)];
         long blocks = (count + block - 1) / block;
         long seed = Dynamics.Scenario.Seed;
@@ -139,6 +134,21 @@ public sealed class TrajectorySampler
             try { await pending; } catch { /* the first failure is the one reported */ }
             throw;
         }
+    }
+
+    /// <summary>
+    /// Trajectories per batch (one row group of trajectories.parquet): a whole number of random-stream blocks, enough of
+    /// them (64) to keep up to 8 threads busy to the end of a batch, within <see cref="SamplerSettings.BatchShots"/> values
+    /// or 16 M values (128 MB) per buffer, at least one block. It depends on the settings and the sizes only, never on the
+    /// processor count, so the file's layout, and its bytes, are the same for any number of threads.
+    /// </summary>
+    public static long BatchTrajectories(long count, int times, int components, SamplerSettings settings)
+    {
+        int block = Math.Max(1, settings.BlockTrajectories);
+        long values = Math.Max(1L, (long)times * components);
+        long perBatch = Math.Max(block, settings.BatchShots / values / block * block);
+        long balanced = Math.Min(64L * block, Math.Max(block, (16L << 20) / values / block * block));
+        return Math.Min(Math.Max(perBatch, balanced), Math.Max(block, (count + block - 1) / block * block));
     }
 
     /// <summary>One trajectory of the 4-component model, all components recorded: the generic step unrolled in registers.</summary>

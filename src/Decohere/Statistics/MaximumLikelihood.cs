@@ -24,6 +24,9 @@ public sealed record MaximumLikelihoodSettings
     /// <summary>Run starts and profile sides in parallel.</summary>
     public bool Parallel { get; init; } = true;
 
+    /// <summary>Stops the fit: checked at every objective evaluation (starts, simplex, Newton polish, profiles).</summary>
+    public CancellationToken Cancel { get; init; }
+
     /// <summary>How far (in ln x for a log parameter) a profile is followed before the data are declared not to bound it.</summary>
     public double ProfileRange { get; init; } = 14;
 }
@@ -115,11 +118,11 @@ public static class MaximumLikelihood
         foreach (var p in parameters)
             if (!double.IsFinite(p.Start) || (p.IsLogarithmic && p.Start <= 0))
                 throw new InputException($"{p.Name}: start value {p.Start} must be finite{(p.IsLogarithmic ? " and > 0" : "")}");
-        var problem = new Problem(minus2LogL, parameters);
+        var problem = new Problem(minus2LogL, parameters, settings.Cancel);
         return problem.Run(settings);
     }
 
-    private sealed class Problem(Func<double[], double> objective, IReadOnlyList<FitParameter> parameters)
+    private sealed class Problem(Func<double[], double> objective, IReadOnlyList<FitParameter> parameters, CancellationToken cancel)
     {
         private int _evaluations;
         private readonly int _p = parameters.Count;
@@ -130,6 +133,7 @@ public static class MaximumLikelihood
         /// <summary>Objective in optimiser coordinates.</summary>
         public double F(double[] u)
         {
+            cancel.ThrowIfCancellationRequested();
             Interlocked.Increment(ref _evaluations);
             var x = new double[_p];
             for (int i = 0; i < _p; i++) x[i] = parameters[i].ToNatural(u[i]);
@@ -152,7 +156,7 @@ public static class MaximumLikelihood
             var all = Enumerable.Range(0, _p).ToArray();
             var scale = parameters.Select(p => p.IsLogarithmic ? 0.5 : 0.1 * Math.Max(Math.Abs(p.Start), 1e-3)).ToArray();
             void One(int s) => found[s] = Minimise(starts[s], all, scale);
-            if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, starts.Count, One);
+            if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, starts.Count, new ParallelOptions { CancellationToken = cancel }, One);
             else for (int s = 0; s < starts.Count; s++) One(s);
             var best = found.MinBy(r => r.F);
             if (best.F >= Invalid)
@@ -179,7 +183,7 @@ public static class MaximumLikelihood
                 var sides = which.SelectMany(k => new[] { (k, -1), (k, +1) }).ToArray();
                 var ends = new (double Value, bool Reached, double Better, double[]? BetterU)[sides.Length];
                 void Side(int i) => ends[i] = ProfileEnd(sides[i].Item1, sides[i].Item2, best.U, best.F, covariance, threshold, settings.ProfileRange);
-                if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, sides.Length, Side);
+                if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, sides.Length, new ParallelOptions { CancellationToken = cancel }, Side);
                 else for (int i = 0; i < sides.Length; i++) Side(i);
                 var improved = ends.Where(e => e.BetterU is not null).OrderBy(e => e.Better).FirstOrDefault();
                 if (!_restarted && improved.BetterU is not null && improved.Better < best.F - 1e-3)
@@ -187,7 +191,7 @@ public static class MaximumLikelihood
                     // The profile walked into a higher likelihood than the optimiser found: restart from there once.
                     var moved = parameters.Select((p, i) => p with { Start = p.ToNatural(improved.BetterU[i]) }).ToArray();
                     if (moved.All(p => double.IsFinite(p.Start) && (!p.IsLogarithmic || p.Start > 0)))
-                        return new Problem(objective, moved) { _restarted = true }.Run(settings with { Starts = 1 });
+                        return new Problem(objective, moved, cancel) { _restarted = true }.Run(settings with { Starts = 1 });
                 }
                 for (int i = 0; i < which.Length; i++)
                 {

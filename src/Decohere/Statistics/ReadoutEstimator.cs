@@ -27,8 +27,22 @@ public readonly record struct Estimate(double Value, double Low, double High, do
 /// <param name="VarMax">Larger eigenvalue; bootstrap interval.</param>
 /// <param name="Occupancy">(var_x + var_p)/2 − ½ + (⟨x⟩² + ⟨p⟩²)/2; bootstrap interval.</param>
 /// <param name="SqueezingDb">10·log10(½ / var_min), NaN when var_min ≤ 0; interval mapped from var_min's (the percentile interval is invariant under monotone maps).</param>
+/// <param name="UncertaintyProduct">var_min·var_max = det V of the inferred covariance; bootstrap interval. Every physical state has
+/// det V ≥ ¼ (zero-point variance ½).</param>
 public sealed record ReadoutEstimate(long Shots, double MeanI, double MeanQ, double VarI, double VarQ, double CovIQ, double AddedNoise,
-    Estimate VarX, Estimate VarP, Estimate CovXP, Estimate VarMin, Estimate VarMax, Estimate Occupancy, Estimate SqueezingDb);
+    Estimate VarX, Estimate VarP, Estimate CovXP, Estimate VarMin, Estimate VarMax, Estimate Occupancy, Estimate SqueezingDb,
+    Estimate UncertaintyProduct)
+{
+    /// <summary>
+    /// True when the whole interval of var_min·var_max lies below ¼: the inferred state violates the uncertainty relation
+    /// det V ≥ ¼ (Robertson–Schrödinger; A. Serafini, Quantum Continuous Variables, CRC Press 2017, sec. 3.5) beyond its
+    /// sampling error, so the added noise subtracted is too large (or the readout gain is mis-set).
+    /// </summary>
+    public bool ViolatesUncertainty => UncertaintyProduct.High < UncertaintyBound;
+
+    /// <summary>The lower bound of var_min·var_max of a physical single-mode state: ¼ in units where the zero-point variance is ½.</summary>
+    public const double UncertaintyBound = 0.25;
+}
 
 /// <summary>
 /// Estimators of the readout mode's moments from (i, q) shots. Variances of single quadratures get the exact interval:
@@ -68,6 +82,7 @@ public static class ReadoutEstimator
         var max = new double[resamples];
         var cov = new double[resamples];
         var occ = new double[resamples];
+        var det = new double[resamples];
         for (int r = 0; r < resamples; r++)
         {
             // χ²_ν = Gamma(ν/2, rate ½); MathNet's ChiSquared.Sample sums ν squared normals for integer ν, O(N) per draw.
@@ -83,6 +98,7 @@ public static class ReadoutEstimator
             max[r] = m.VarMax;
             cov[r] = sxq;
             occ[r] = m.Occupancy;
+            det[r] = m.VarMin * m.VarMax;
         }
         double alpha = 1 - confidence;
         (double, double, double) Percentile(double[] values)
@@ -94,6 +110,7 @@ public static class ReadoutEstimator
         var (maxLow, maxHigh, maxSd) = Percentile(max);
         var (covLow, covHigh, covSd) = Percentile(cov);
         var (occLow, occHigh, occSd) = Percentile(occ);
+        var (detLow, detHigh, detSd) = Percentile(det);
 
         double nan = double.NaN;
         var p = model;
@@ -115,7 +132,21 @@ public static class ReadoutEstimator
             E(inferred.VarMin, minLow, minHigh, p?.VarMin ?? nan, minSd),
             E(inferred.VarMax, maxLow, maxHigh, p?.VarMax ?? nan, maxSd),
             E(inferred.Occupancy, occLow, occHigh, p?.Occupancy ?? nan, occSd),
-            E(db, Db(minHigh), Db(minLow), p?.SqueezingDb ?? nan, dbSd));
+            E(db, Db(minHigh), Db(minLow), p?.SqueezingDb ?? nan, dbSd),
+            E(inferred.VarMin * inferred.VarMax, detLow, detHigh, p is { } d ? d.VarMin * d.VarMax : nan, detSd));
+    }
+
+    /// <summary>
+    /// The warning for an estimate whose var_min·var_max lies below ¼ beyond its interval (see
+    /// <see cref="ReadoutEstimate.ViolatesUncertainty"/>), naming the delay and the product with its interval; null otherwise.
+    /// </summary>
+    public static string? UncertaintyWarning(ReadoutEstimate e, double delayS, double confidence)
+    {
+        if (!e.ViolatesUncertainty) return null;
+        var u = e.UncertaintyProduct;
+        return $"delay {Quantity.Format(delayS, Dimension.Time)}: the estimated var_min·var_max = {u.Value:G3} ({confidence:P0} interval {u.Low:G3} to {u.High:G3}) " +
+            $"is below ¼, which no physical state allows (det V ≥ ¼ with zero-point variance ½): the added noise subtracted ({e.AddedNoise:G4} quanta) " +
+            "is larger than the readout adds, or the gain calibration is off";
     }
 
     private static ModeMoments Moments(double varX, double varP, double cov, double meanX, double meanP) =>

@@ -26,7 +26,7 @@ public static class ResolutionPower
     /// standard error √(p(1 − p)/draws).
     /// </summary>
     public static (double Power, double StandardError) MonteCarlo(double trueVariance, double addedNoise, long shots, double threshold,
-        double confidence, double calibrationSigma, int draws, System.Random random)
+        double confidence, double calibrationSigma, int draws, System.Random random, CancellationToken cancel = default)
     {
         ArgumentOutOfRangeException.ThrowIfLessThan(shots, 2);
         ArgumentOutOfRangeException.ThrowIfLessThan(draws, 1);
@@ -39,6 +39,7 @@ public static class ResolutionPower
         int resolved = 0;
         for (int i = 0; i < draws; i++)
         {
+            if ((i & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
             double s2 = sigma2 * Gamma.Sample(random, 0.5 * nu, 0.5) / nu;
             double estimate = calibrationSigma > 0 ? addedNoise + calibrationSigma * Normal.Sample(random, 0, 1) : addedNoise;
             if (s2 < (threshold + estimate) * q) resolved++;

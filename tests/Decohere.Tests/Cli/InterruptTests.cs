@@ -35,6 +35,48 @@ public class InterruptTests
         }
     }
 
+    [Fact]
+    public async Task AFitOnAHostileVariancesFileStopsWithinASecondOfSigterm()
+    {
+        if (!OperatingSystem.IsLinux() && !OperatingSystem.IsMacOS()) return;
+        string dir = TestPaths.NewTempDirectory();
+        // 200 000 distinct delays: every likelihood evaluation walks 200 000 states, each with its own exact step,
+        // and the fit would run for hours; it must notice the signal between delays, not after an evaluation.
+        string data = Path.Combine(dir, "hostile.csv");
+        using (var w = new StreamWriter(data))
+        {
+            w.WriteLine("delay_s,var_i,var_q,shots");
+            for (int r = 0; r < 200_000; r++)
+                w.WriteLine(FormattableString.Invariant($"{0.008 * (r + 0.5) / 200_000:R},{2.0 + (r % 7) * 0.01},{2.1 - (r % 5) * 0.01},1000"));
+        }
+        string scenario = Path.Combine(dir, "demo.yaml");
+        File.WriteAllText(scenario, Decohere.Scenarios.ScenarioLoader.DemoText);
+        var info = new ProcessStartInfo("dotnet") { RedirectStandardOutput = true, RedirectStandardError = true };
+        foreach (var a in new[] { Path.Combine(AppContext.BaseDirectory, "decohere.dll"), "fit", scenario, "--data", data, "--out", Path.Combine(dir, "out"), "-q" })
+            info.ArgumentList.Add(a);
+        using var process = Process.Start(info)!;
+        try
+        {
+            var stderr = process.StandardError.ReadToEndAsync();
+            _ = process.StandardOutput.ReadToEndAsync();
+            // Past start-up and reading (under a second), into the optimiser.
+            Assert.False(process.WaitForExit(4000), "the fit ended before it could be stopped");
+            var clock = Stopwatch.StartNew();
+            Assert.Equal(0, Kill(process.Id, 15));
+            Assert.True(process.WaitForExit(10_000), "the fit did not stop");
+            // A second is the requirement; the margin absorbs the process's own exit on a loaded machine.
+            Assert.True(clock.Elapsed.TotalSeconds < 1.5, $"the fit stopped {clock.Elapsed.TotalSeconds:F2} s after SIGTERM");
+            Assert.Equal(130, process.ExitCode);
+            Assert.Contains("stopped", await stderr);
+            Assert.False(File.Exists(Path.Combine(dir, "out", "fit.json")));
+        }
+        finally
+        {
+            if (!process.HasExited) process.Kill(entireProcessTree: true);
+            Directory.Delete(dir, recursive: true);
+        }
+    }
+
     private static async Task StopAndCheck(Process process, string output, int signal)
     {
         var stderr = process.StandardError.ReadToEndAsync();

@@ -31,7 +31,11 @@ public static class FitAnalysis
 
     /// <summary>Fits the settings' free parameters (default: <see cref="DefaultFree"/>) of <paramref name="scenario"/> to <paramref name="data"/>.</summary>
     /// <exception cref="InputException">A setting is out of range, or a free path is unknown, repeated, not continuous, or not seen by this kind of data.</exception>
-    public static FitResult Solve(Scenario scenario, FitSettings settings, FitData data)
+    /// <param name="scenario">The scenario whose parameters are fitted.</param>
+    /// <param name="settings">Free parameters, starts, profiles.</param>
+    /// <param name="data">The measured data.</param>
+    /// <param name="cancel">Stops the fit at its next model evaluation (and within one evaluation, between delays).</param>
+    public static FitResult Solve(Scenario scenario, FitSettings settings, FitData data, CancellationToken cancel = default)
     {
         settings.Validate();
         var clock = Stopwatch.StartNew();
@@ -48,7 +52,7 @@ public static class FitAnalysis
         }
         var model = new ReadoutModel(scenario, paths);
         var delays = data.Delays.Select(d => d.DelayS).ToArray();
-        double Objective(double[] x) => DataLikelihood.Total(data, model.Predict(x, delays));
+        double Objective(double[] x) => DataLikelihood.Total(data, model.Predict(x, delays, cancel));
 
         var parameters = paths.Select(p => new FitParameter(p.Text, Start(p, scenario),
             p.MustBePositive ? ParameterDomain.Positive : p.IsSigned ? ParameterDomain.Real : ParameterDomain.NonNegative)).ToArray();
@@ -58,6 +62,7 @@ public static class FitAnalysis
             Confidence = settings.Confidence,
             Profiles = settings.Profiles,
             Parallel = settings.Parallel,
+            Cancel = cancel,
             ProfileOnly = settings.ProfileOnly?.Select(name => Array.FindIndex(parameters, q => q.Name == name) is var i && i >= 0 ? i
                 : throw new InputException($"profile: '{name}' is not a free parameter")).ToArray(),
         });
@@ -80,7 +85,7 @@ public static class FitAnalysis
 
         var derived = Derived(scenario, model, ml, paths, z);
         var combinations = Combinations(scenario, model, ml, paths, z, settings.CorrelationLimit, warnings);
-        if (ThermalRefit(scenario, data, model, ml, paths, delays, settings, combinations, warnings) is { } thermal)
+        if (ThermalRefit(scenario, data, model, ml, paths, delays, settings, combinations, warnings, cancel) is { } thermal)
         {
             combinations = [.. combinations.Where(c => c.Name != thermal.Name), thermal];
             derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.FittedQuantity : d)];
@@ -94,12 +99,13 @@ public static class FitAnalysis
         if (dof <= 0)
             warnings.Add($"{DataLikelihood.Terms(data)} statistics for {p} parameters: no degrees of freedom are left to test the fit");
 
-        var (delayModel, delaySd) = Band(model, ml, delays);
+        cancel.ThrowIfCancellationRequested();
+        var (delayModel, delaySd) = Band(model, ml, delays, cancel);
         var delayFits = data.Delays.Select((d, k) => new DelayFit(d, delayModel[k], delaySd[k])).ToImmutableArray();
         double maxDelay = delays.Max();
         int points = Math.Max(2, settings.CurvePoints);
         var grid = Enumerable.Range(0, points).Select(k => maxDelay * k / (points - 1)).ToArray();
-        var (curveModel, curveSd) = Band(model, ml, grid);
+        var (curveModel, curveSd) = Band(model, ml, grid, cancel);
 
         return new FitResult(scenario, fitted, ReadoutChains.For(fitted), data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
             new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], DataLikelihood.Describe(data),
@@ -120,9 +126,9 @@ public static class FitAnalysis
     }
 
     /// <summary>Predictions at the optimum and their pointwise standard deviations (delta method with central differences in the optimiser's coordinates).</summary>
-    private static (ReadoutPrediction[] Model, ReadoutPrediction[] Sd) Band(ReadoutModel model, MaximumLikelihoodResult ml, double[] delays)
+    private static (ReadoutPrediction[] Model, ReadoutPrediction[] Sd) Band(ReadoutModel model, MaximumLikelihoodResult ml, double[] delays, CancellationToken cancel)
     {
-        var centre = model.Predict(ml.Estimates, delays);
+        var centre = model.Predict(ml.Estimates, delays, cancel);
         var sd = new ReadoutPrediction[delays.Length];
         var cov = ml.InternalCovariance;
         if (cov is null)
@@ -140,8 +146,8 @@ public static class FitAnalysis
             var down = (double[])ml.Internal.Clone();
             up[k] += h;
             down[k] -= h;
-            var a = model.Predict(up.Select((u, i) => ml.Parameters[i].ToNatural(u)).ToArray(), delays);
-            var b = model.Predict(down.Select((u, i) => ml.Parameters[i].ToNatural(u)).ToArray(), delays);
+            var a = model.Predict(up.Select((u, i) => ml.Parameters[i].ToNatural(u)).ToArray(), delays, cancel);
+            var b = model.Predict(down.Select((u, i) => ml.Parameters[i].ToNatural(u)).ToArray(), delays, cancel);
             grads[k] = new double[delays.Length, 6];
             for (int d = 0; d < delays.Length; d++)
             {
@@ -318,7 +324,8 @@ public static class FitAnalysis
     /// the (γ, n_th) likelihood, where the delta method has nothing to work with.
     /// </summary>
     private static IdentifiedCombination? ThermalRefit(Scenario scenario, FitData data, ReadoutModel model, MaximumLikelihoodResult ml,
-        ImmutableArray<ParameterPath> paths, double[] delays, FitSettings settings, ImmutableArray<IdentifiedCombination> found, List<string> warnings)
+        ImmutableArray<ParameterPath> paths, double[] delays, FitSettings settings, ImmutableArray<IdentifiedCombination> found, List<string> warnings,
+        CancellationToken cancel)
     {
         if (!settings.Profiles) return null;
         string m = scenario.Readout!.Mode;
@@ -349,8 +356,9 @@ public static class FitAnalysis
         var parameters = ml.Parameters.Select((p, k) => k == bath
             ? new FitParameter("thermal_decoherence_rate_per_s", rate0, ParameterDomain.NonNegative)
             : p with { Start = ml.Estimates[k] }).ToArray();
-        var refit = MaximumLikelihood.Fit(x => DataLikelihood.Total(data, model.Predict(ToOriginal(x), delays)), parameters, new MaximumLikelihoodSettings
+        var refit = MaximumLikelihood.Fit(x => DataLikelihood.Total(data, model.Predict(ToOriginal(x), delays, cancel)), parameters, new MaximumLikelihoodSettings
         {
+            Cancel = cancel,
             Starts = 1,
             Confidence = settings.Confidence,
             Parallel = settings.Parallel,

@@ -46,10 +46,12 @@ public sealed class ReadoutModel
     }
 
     /// <summary>Predictions at the given delays (s from the readout stage's start), in the order given.</summary>
-    public ReadoutPrediction[] Predict(IReadOnlyList<double> values, IReadOnlyList<double> delays) => Predict(Apply(values), delays);
+    public ReadoutPrediction[] Predict(IReadOnlyList<double> values, IReadOnlyList<double> delays, CancellationToken cancel = default) =>
+        Predict(Apply(values), delays, cancel);
 
     /// <summary>Predictions of an already-modified scenario at the given delays.</summary>
-    public static ReadoutPrediction[] Predict(Scenario scenario, IReadOnlyList<double> delays)
+    /// <remarks>Thousands of distinct delays cost a matrix exponential each: <paramref name="cancel"/> is checked at every delay.</remarks>
+    public static ReadoutPrediction[] Predict(Scenario scenario, IReadOnlyList<double> delays, CancellationToken cancel = default)
     {
         var readout = scenario.Readout!;
         // The readout is part of the model: freed chain or pulse parameters change the added noise.
@@ -70,6 +72,7 @@ public sealed class ReadoutModel
         var result = new ReadoutPrediction[delays.Count];
         dynamics.Walk(times, (k, v, mean) =>
         {
+            cancel.ThrowIfCancellationRequested();
             int a = 2 * mode, b = a + 1;
             double vx = v[a * n + a], vp = v[b * n + b], c = 0.5 * (v[a * n + b] + v[b * n + a]);
             double occupancy = Physics.ModeOccupancy(vx, vp, mean[a], mean[b]);

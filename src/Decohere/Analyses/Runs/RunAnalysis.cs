@@ -145,7 +145,9 @@ public static class RunAnalysis
             trajectories = new TrajectoryOutput(settings.Trajectories, trajectorySampler.Times.Length, trajectorySampler.Components);
         }
         cancel.ThrowIfCancellationRequested();
+        var warnings = check.Warnings.AddRange(shots is null ? [] : shots.Estimates
+            .Select((e, k) => ReadoutEstimator.UncertaintyWarning(e, shots.Sampler.Delays[k].DelayS, sampling.Confidence)).OfType<string>());
         return new RunResult(scenario, settings, dynamics, evolution, check, shots, trajectories, provenance,
-            ResultStatuses.From(check.Warnings), check.Warnings, WorkStatistics.Since(started, sampler?.TotalShots ?? 0));
+            ResultStatuses.From(warnings), warnings, WorkStatistics.Since(started, sampler?.TotalShots ?? 0));
     }
 }

@@ -134,12 +134,13 @@ public static class ToleranceAnalysis
             cancel.ThrowIfCancellationRequested();
             foreach (long shots in settings.Shots)
             {
+                cancel.ThrowIfCancellationRequested();
                 double power = ResolutionPower.ClosedForm(v, n, shots, threshold, settings.Confidence);
                 double? mc = null, err = null;
                 if (settings.CalibrationUncertainty is { } sigma)
                 {
                     var (p, e) = ResolutionPower.MonteCarlo(v, n, shots, threshold, settings.Confidence, sigma, settings.Draws,
-                        ResolutionPower.PointRandom(scenario.Seed, k));
+                        ResolutionPower.PointRandom(scenario.Seed, k), cancel);
                     (mc, err) = (p, e);
                 }
                 points.Add(new TolerancePoint(n, shots, power, mc, err));
