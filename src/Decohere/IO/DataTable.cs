@@ -115,11 +115,16 @@ public sealed class DataTable
     /// <exception cref="InputException">The file is missing, empty or malformed.</exception>
     public static Task<DataTable> LoadAsync(string path, CancellationToken cancel = default) => LoadAsync(path, null, cancel);
 
-    /// <summary>Reads a CSV (comma-separated, header row) or Parquet file, chosen by its first bytes: only the columns <paramref name="select"/> chooses (null: all).</summary>
+    /// <summary>
+    /// Reads a CSV (comma-separated, header row), Parquet or HDF5 file (<c>FILE.h5:/group</c> for a group's datasets, see
+    /// <see cref="Hdf5Columns"/>), chosen by its first bytes: only the columns <paramref name="select"/> chooses (null: all).
+    /// </summary>
     /// <exception cref="InputException">The file is missing, empty or malformed, or <paramref name="select"/> refused it.</exception>
     public static async Task<DataTable> LoadAsync(string path, ColumnSelector? select, CancellationToken cancel = default)
     {
-        if (!File.Exists(path)) throw new InputException($"data file {path}: not found");
+        var (file, group) = Hdf5Columns.SplitGroup(path);
+        if (!File.Exists(file)) throw new InputException($"data file {path}: not found");
+        if (Hdf5Columns.IsHdf5(file)) return await Task.Run(() => LoadHdf5(file, group, select, cancel), cancel);
         string name = Path.GetFileName(path);
         bool parquet;
         await using (var probe = File.OpenRead(path))
@@ -129,6 +134,32 @@ public sealed class DataTable
             parquet = read == 4 && magic.SequenceEqual("PAR1"u8.ToArray());
         }
         return parquet ? await LoadParquetAsync(path, name, select, cancel) : await Task.Run(() => LoadCsv(path, name, select, cancel), cancel);
+    }
+
+    private static DataTable LoadHdf5(string path, string group, ColumnSelector? select, CancellationToken cancel)
+    {
+        var selection = new ColumnSelection([], []);
+        var h5 = Hdf5Columns.Read(path, group, (names, rows) =>
+        {
+            selection = Select(select, names, rows);
+            return [.. selection.Numbers, .. selection.Texts];
+        }, cancel);
+        var table = new DataTable(h5.Source, csv: false, h5.Rows, h5.Names);
+        foreach (var (name, values) in h5.Numbers)
+        {
+            var column = new NumberColumn(h5.Rows);
+            values.CopyTo(column.Values, 0);
+            for (int r = 0; r < values.Length; r++)
+                if (!double.IsFinite(values[r])) column.Refuse(r, $"{Format(values[r])} is not a finite number");
+            table._numbers[name] = column;
+        }
+        foreach (var (name, values) in h5.Texts)
+        {
+            var column = new TextColumn(h5.Rows);
+            for (int r = 0; r < values.Length; r++) column.Codes[r] = column.Code(values[r]);
+            table._texts[name] = column;
+        }
+        return table;
     }
 
     // Without a selector every column is read: as numbers from CSV, in its own type from Parquet.

@@ -12,8 +12,8 @@ namespace Decohere.IO;
 /// </summary>
 /// <param name="Source">The file name (with the group when not the root), for messages.</param>
 /// <param name="Names">Column names in the group's order.</param>
-/// <param name="Numbers">Numeric columns (in seconds for columns with a time unit).</param>
-/// <param name="Texts">Text columns.</param>
+/// <param name="Numbers">Numeric columns read (in seconds for columns with a time unit).</param>
+/// <param name="Texts">Text columns read.</param>
 /// <param name="Rows">The common length of the columns.</param>
 /// <param name="Skipped">Datasets that are not columns, each with the reason.</param>
 public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IReadOnlyDictionary<string, double[]> Numbers,
@@ -49,9 +49,15 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
     }
 
     /// <summary>Reads the columns of <paramref name="group"/> ("/" for the root).</summary>
+    /// <param name="path">The file.</param>
+    /// <param name="group">The group whose datasets are the columns.</param>
+    /// <param name="select">Given the column names and the row count, the columns to read (null: all); the others are
+    /// listed in <see cref="Names"/> but not read.</param>
+    /// <param name="cancel">Stops between datasets.</param>
     /// <exception cref="InputException">The file is not readable HDF5, the group does not exist, a column has a unit that
     /// cannot be converted, or the columns differ in length; the message names the file, group and dataset.</exception>
-    public static Hdf5Columns Read(string path, string group = "/", CancellationToken cancel = default)
+    public static Hdf5Columns Read(string path, string group = "/", Func<IReadOnlyList<string>, int, IReadOnlyCollection<string>>? select = null,
+        CancellationToken cancel = default)
     {
         string source = Path.GetFileName(path) + (group is "/" or "" ? "" : GroupSeparator + group);
         try
@@ -65,8 +71,7 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 where = file.Group(group);
             }
             var names = new List<string>();
-            var numbers = new Dictionary<string, double[]>(StringComparer.Ordinal);
-            var texts = new Dictionary<string, string?[]>(StringComparer.Ordinal);
+            var columns = new Dictionary<string, IH5Dataset>(StringComparer.Ordinal);
             var skipped = new List<string>();
             var lengths = new Dictionary<string, ulong>(StringComparer.Ordinal);
             foreach (var child in where.Children())
@@ -75,19 +80,37 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 if (child is not IH5Dataset dataset) continue;
                 string name = child.Name;
                 var dims = dataset.Space.Dimensions;
-                if (dims.Length != 1)
-                {
-                    skipped.Add($"{name} ({(dims.Length == 0 ? "a scalar" : $"shape {string.Join("×", dims)}")}: a column is one-dimensional)");
-                    continue;
-                }
-                if (dims[0] > int.MaxValue)
-                    throw new InputException($"{source}, dataset {name}: {dims[0]} rows; at most {int.MaxValue}");
                 var type = dataset.Type;
-                if (type.Class is H5DataTypeClass.String || (type.Class is H5DataTypeClass.VariableLength && IsText(dataset)))
+                if (dims.Length != 1)
+                    skipped.Add($"{name} ({(dims.Length == 0 ? "a scalar" : $"shape {string.Join("×", dims)}")}: a column is one-dimensional)");
+                else if (!(type.Class is H5DataTypeClass.String or H5DataTypeClass.FloatingPoint or H5DataTypeClass.FixedPoint ||
+                           (type.Class is H5DataTypeClass.VariableLength && IsText(dataset))))
+                    skipped.Add($"{name} ({type.Class.ToString().ToLowerInvariant()} data: a column holds numbers or text)");
+                else if (dims[0] > int.MaxValue)
+                    throw new InputException($"{source}, dataset {name}: {dims[0]} rows; at most {int.MaxValue}");
+                else
                 {
-                    texts[name] = dataset.Read<string[]>();
+                    names.Add(name);
+                    columns[name] = dataset;
+                    lengths[name] = dims[0];
                 }
-                else if (type.Class is H5DataTypeClass.FloatingPoint or H5DataTypeClass.FixedPoint)
+            }
+            if (names.Count == 0)
+                throw new InputException($"{source}: no one-dimensional datasets to read as columns" +
+                    (skipped.Count > 0 ? $" (skipped: {string.Join("; ", skipped)})" : "") +
+                    $"; groups here: {Describe(where.Children().OfType<IH5Group>().Select(g => g.Name))} (choose one as FILE{GroupSeparator}/GROUP)");
+            if (lengths.Values.Distinct().Count() > 1)
+                throw new InputException($"{source}: the columns differ in length ({string.Join(", ", lengths.Select(p => $"{p.Key}: {p.Value}"))}); " +
+                    "keep one table per group");
+            int rows = (int)lengths.Values.First();
+            var chosen = select?.Invoke(names, rows) ?? names;
+            var numbers = new Dictionary<string, double[]>(StringComparer.Ordinal);
+            var texts = new Dictionary<string, string?[]>(StringComparer.Ordinal);
+            foreach (string name in names.Where(chosen.Contains))
+            {
+                cancel.ThrowIfCancellationRequested();
+                var dataset = columns[name];
+                if (dataset.Type.Class is H5DataTypeClass.FloatingPoint or H5DataTypeClass.FixedPoint)
                 {
                     var values = ReadNumbers(dataset);
                     double scale = Scale(dataset, source, name);
@@ -97,20 +120,10 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 }
                 else
                 {
-                    skipped.Add($"{name} ({type.Class.ToString().ToLowerInvariant()} data: a column holds numbers or text)");
-                    continue;
+                    texts[name] = dataset.Read<string[]>();
                 }
-                names.Add(name);
-                lengths[name] = dims[0];
             }
-            if (names.Count == 0)
-                throw new InputException($"{source}: no one-dimensional datasets to read as columns" +
-                    (skipped.Count > 0 ? $" (skipped: {string.Join("; ", skipped)})" : "") +
-                    $"; groups here: {Describe(where.Children().OfType<IH5Group>().Select(g => g.Name))} (choose one as FILE{GroupSeparator}/GROUP)");
-            if (lengths.Values.Distinct().Count() > 1)
-                throw new InputException($"{source}: the columns differ in length ({string.Join(", ", lengths.Select(p => $"{p.Key}: {p.Value}"))}); " +
-                    "keep one table per group");
-            return new Hdf5Columns(source, names, numbers, texts, (int)lengths.Values.First(), skipped);
+            return new Hdf5Columns(source, names, numbers, texts, rows, skipped);
         }
         catch (Exception e) when (e is not (InputException or OperationCanceledException or OutOfMemoryException))
         {

@@ -1,5 +1,7 @@
 using Decohere.Core;
 using Decohere.IO;
+using Decohere.Scenarios;
+using Decohere.Statistics;
 
 namespace Decohere.Tests.IO;
 
@@ -26,6 +28,31 @@ public sealed class Hdf5InputTests
         Assert.Equal([1.0, -2, 3, -4, 5, -6], table.Numbers["q"]);
         Assert.All(table.Texts["mode"], m => Assert.Equal("drum", m));
         Assert.Contains(table.Skipped, s => s.StartsWith("raw (shape 2×3", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public async Task AFitReadsShotsFromAnHdf5GroupLikeFromCsv()
+    {
+        var scenario = ScenarioLoader.Parse("""
+            name: hdf5-drum
+            model: effective
+            modes:
+              drum: { kind: mechanical, frequency: 4 MHz, linewidth: 10 Hz, bath: { occupancy: 50 } }
+            stages:
+              - name: release
+                duration: 5 ms
+            readout: { mode: drum, added_noise: 1, shots: 3, stage: release, delays: [0 ms, 1.5 ms] }
+            """, "hdf5.yaml");
+        var data = await FitDataReader.ReadAsync(Fixture + ":/run7", scenario, DataOptions.Parse(["delay_s=delay"], null));
+        Assert.Equal(DataShape.Shots, data.Shape);
+        Assert.Equal([0, 1.5e-3], data.Delays.Select(d => d.DelayS));
+        // Unbiased sample variances of the fixture's three shots per delay, by hand:
+        // i = (0.25, −0.5, 1) → 1.125/2; q = (1, −2, 3) → (114/9)/2; i = (2, −1.5, 0.125) → 6.135416…/2; q = (−4, 5, −6) → (618/9)/2.
+        Assert.Equal(0.5625, data.Delays[0].VarI, 12);
+        Assert.Equal(114.0 / 18, data.Delays[0].VarQ, 12);
+        Assert.Equal(6.1354166666666667 / 2, data.Delays[1].VarI, 12);
+        Assert.Equal(618.0 / 18, data.Delays[1].VarQ, 12);
+        Assert.Equal(3, data.Delays[1].Shots);
     }
 
     [Fact]
