@@ -56,7 +56,7 @@ public static class RunCommand
                     .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
                     .StartAsync(context => RunAnalysis.SolveAsync(s, settings, files, new ProgressBars(context), OnReadout, cancel))
                 : await RunAnalysis.SolveAsync(s, settings, files, null, OnReadout, cancel);
-            var paths = await new RunReport().WriteAsync(result, dir, cancel);
+            var paths = await new RunReport(files).WriteAsync(result, dir, cancel);
             if (!isQuiet)
             {
                 console.Out.Write(StageTable(result.Dynamics));

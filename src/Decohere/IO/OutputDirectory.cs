@@ -12,7 +12,8 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
 {
     /// <summary><c>run</c>: covariances, shots, estimates, trajectories, summary and plots.</summary>
     public static OutputSet Run { get; } = new("run",
-        ["covariance.parquet", "summary.json", "variance.png", "variance.svg", "shots.parquet", "estimates.parquet", "estimates.png", "trajectories.parquet"]);
+        ["covariance.parquet", "summary.json", "variance.png", "variance.svg", "shots.parquet", "estimates.parquet", "estimates.png",
+         "estimates.svg", "iq.png", "iq.svg", "trajectories.parquet"]);
 
     /// <summary><c>lifetime</c>.</summary>
     public static OutputSet Lifetime { get; } = new("lifetime", ["lifetime.json", "lifetime.parquet", "lifetime.png"]);
