@@ -16,10 +16,10 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
          "estimates.svg", "iq.png", "iq.svg", "trajectories.parquet"]);
 
     /// <summary><c>lifetime</c>.</summary>
-    public static OutputSet Lifetime { get; } = new("lifetime", ["lifetime.json", "lifetime.parquet", "lifetime.png"]);
+    public static OutputSet Lifetime { get; } = new("lifetime", ["lifetime.json", "lifetime.parquet", "lifetime.png", "lifetime.svg"]);
 
     /// <summary><c>tolerance</c>.</summary>
-    public static OutputSet Tolerance { get; } = new("tolerance", ["tolerance.json", "tolerance.parquet", "tolerance.png"]);
+    public static OutputSet Tolerance { get; } = new("tolerance", ["tolerance.json", "tolerance.parquet", "tolerance.png", "tolerance.svg"]);
 
     /// <summary><c>fit</c>.</summary>
     public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png"]);
@@ -28,7 +28,7 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json"]);
 
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
-    public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png"]);
+    public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg"]);
 
     /// <summary>One shard of a sweep: only its own part file, never the other shards' (they may be running now).</summary>
     public static OutputSet SweepPart(string partFile) => new($"sweep {partFile}", [partFile]);
