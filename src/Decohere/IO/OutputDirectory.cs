@@ -22,7 +22,7 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     public static OutputSet Tolerance { get; } = new("tolerance", ["tolerance.json", "tolerance.parquet", "tolerance.png", "tolerance.svg"]);
 
     /// <summary><c>fit</c>.</summary>
-    public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png"]);
+    public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png", "fit.svg", "fit.md", "fit.tex"]);
 
     /// <summary><c>fit-noise</c>.</summary>
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json"]);
