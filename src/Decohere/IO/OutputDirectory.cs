@@ -25,7 +25,7 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png", "fit.svg", "fit.md", "fit.tex"]);
 
     /// <summary><c>fit-noise</c>.</summary>
-    public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json"]);
+    public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json", "fit-noise.png", "fit-noise.svg"]);
 
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg"]);
