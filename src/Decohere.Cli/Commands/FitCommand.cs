@@ -43,10 +43,11 @@ public static class FitCommand
         var starts = new Option<int>("--starts") { Description = "Optimiser starts (default 4).", DefaultValueFactory = _ => 4 };
         var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -61,7 +62,7 @@ public static class FitCommand
             };
             var result = FitAnalysis.Solve(s, settings, fitData);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel);
+            var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

@@ -22,6 +22,7 @@ public static class RunCommand
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var seed = new Option<long?>("--seed") { Description = "Random seed (overrides the scenario's seed)." };
         var trajectories = new Option<int>("--trajectories")
         {
@@ -33,7 +34,7 @@ public static class RunCommand
             "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
             "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png).")
         {
-            scenario, output, seed, trajectories, quiet,
+            scenario, output, format, seed, trajectories, quiet,
         };
         var flags = new Dictionary<string, string> { ["trajectories"] = "--trajectories" };
         command.SetAction((parse, cancel) => Cli.Guard(console, flags, async () =>
@@ -63,8 +64,9 @@ public static class RunCommand
                 if (result.Sampling is { } sampling) console.Out.Write(EstimateTable(sampling));
                 console.Warnings(result.Warnings);
             }
-            owned.Record([.. paths, .. files.Paths]);
-            console.Paths([.. paths, .. files.Paths]);
+            var written = Cli.WithCsv([.. paths, .. files.Paths], CsvExport.WantsCsv(parse.GetValue(format)), cancel);
+            owned.Record(written);
+            console.Paths(written);
             return Cli.Ok;
         }));
         return command;

@@ -40,12 +40,13 @@ public static class ToleranceCommand
         var after = new Option<string?>("--after") { Description = "Count the delay from the end of this stage (default: the last stage with tones)." };
         var draws = new Option<int>("--draws") { Description = "Monte Carlo draws per grid point (default 4000).", DefaultValueFactory = _ => 4000 };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("tolerance",
             "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
             "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png.")
         {
-            scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, quiet,
+            scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -64,7 +65,7 @@ public static class ToleranceCommand
             settings.Validate();
             var s = Cli.Load(parse.GetValue(scenario));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
-            var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel);
+            var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(PowerTable(result));
