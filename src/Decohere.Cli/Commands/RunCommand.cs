@@ -92,6 +92,8 @@ public static class RunCommand
         foreach (var h in new[] { "delay", "quantity", "estimate", "95% interval", "model", "z" })
             table.AddColumn(new TableColumn(h).RightAligned());
         string[] names = ["var_x", "var_p", "var_min", "var_max", "occupancy", "squeezing (dB)"];
+        // One unit for all delays, chosen from the set ("0 ms, 1 ms, 8 ms").
+        var delays = Reports.Plotting.DisplayUnits.FormatAll([.. sampler.Delays.Select(d => d.DelayS)], Dimension.Time);
         for (int k = 0; k < sampling.Estimates.Count; k++)
         {
             var e = sampling.Estimates[k];
@@ -101,7 +103,7 @@ public static class RunCommand
                 var v = values[q];
                 string format = q == values.Length - 1 ? "F2" : "G4";
                 string colour = Math.Abs(v.Z) > 3 ? "red" : "default";
-                table.AddRow(q == 0 ? Markup.Escape(Quantity.Format(sampler.Delays[k].DelayS, Dimension.Time)) : "", names[q],
+                table.AddRow(q == 0 ? Markup.Escape(delays[k]) : "", names[q],
                     N(v.Value, format), $"[[{N(v.Low, format)}, {N(v.High, format)}]]", N(v.Model, format), $"[{colour}]{N(v.Z, "F1")}[/]");
             }
         }

@@ -15,8 +15,8 @@ namespace Decohere.Reports;
 /// </summary>
 public static class FitTables
 {
-    /// <summary>One line of the table: name, value, interval ends (formatted in one unit) and the unit.</summary>
-    public sealed record Row(string Quantity, string Value, string Low, string High, string Unit, string Method);
+    /// <summary>One line of the table: name, value, standard error, interval ends (all in one unit), the unit and the interval's method.</summary>
+    public sealed record Row(string Quantity, string Value, string StandardError, string Low, string High, string Unit, string Method);
 
     /// <summary>The rows: parameters (by path), then derived quantities, then identified combinations.</summary>
     public static IReadOnlyList<Row> Rows(FitResult fit)
@@ -49,7 +49,7 @@ public static class FitTables
         string N(double v) => double.IsPositiveInfinity(v) ? "∞" : double.IsNegativeInfinity(v) ? "−∞" : !double.IsFinite(v) ? "–"
             : Ticks.Label(Math.Round(unit.From(v), 12) is var x && Math.Abs(x) >= 1e5 ? x : double.Parse(x.ToString("G4", CultureInfo.InvariantCulture), CultureInfo.InvariantCulture));
         // An end the profile never reached is the domain's bound below and unbounded above.
-        return new Row(label.Name, N(q.Value), N(q.Low) + (q.LowReached ? "" : " (bound)"), q.HighReached ? N(q.High) : "∞", unit.Symbol, q.Method);
+        return new Row(label.Name, N(q.Value), N(q.StandardError), N(q.Low) + (q.LowReached ? "" : " (bound)"), q.HighReached ? N(q.High) : "∞", unit.Symbol, q.Method);
     }
 
     /// <summary>The Markdown document.</summary>
