@@ -65,6 +65,8 @@ public static class VariancePlot
             label.LabelFontColor = Figure.Ink;
             label.LabelAlignment = Alignment.UpperLeft;
             label.OffsetX = 4;
+            // Neighbouring names one line apart, so short stages do not print over each other.
+            label.OffsetY = i % 2 * (Figure.FontSize + 6);
         }
         var zero = plot.Add.HorizontalLine(Math.Log10(0.5));
         zero.Color = Figure.Ink;

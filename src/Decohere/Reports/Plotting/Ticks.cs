@@ -40,14 +40,19 @@ public static class Ticks
     public static double[] LogValues(double lo, double hi)
     {
         double span = hi - lo;
-        double[] mantissas = span >= 3 ? [1] : span >= 1 ? [1, 2, 5] : [1, 2, 3, 4, 5, 6, 7, 8, 9];
-        var values = new List<double>();
-        for (int e = (int)Math.Floor(lo) - 1; e <= (int)Math.Ceiling(hi); e++)
-            foreach (double m in mantissas)
-            {
-                double v = m * Math.Pow(10, e), l = Math.Log10(v);
-                if (l >= lo - 1e-9 && l <= hi + 1e-9) values.Add(v);
-            }
+        List<double> Values(double[] mantissas)
+        {
+            var list = new List<double>();
+            for (int e = (int)Math.Floor(lo) - 1; e <= (int)Math.Ceiling(hi); e++)
+                foreach (double m in mantissas)
+                {
+                    double v = m * Math.Pow(10, e), l = Math.Log10(v);
+                    if (l >= lo - 1e-9 && l <= hi + 1e-9) list.Add(v);
+                }
+            return list;
+        }
+        var values = Values(span >= 3 ? [1] : span >= 1 ? [1, 2, 5] : [1, 2, 3, 4, 5, 6, 7, 8, 9]);
+        if (values.Count < 4 && span >= 1 && span < 3) values = Values([1, 2, 3, 5]);
         // Many decades: label every second or third decade so labels never collide.
         if (span >= 3)
         {
