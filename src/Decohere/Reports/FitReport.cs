@@ -193,7 +193,7 @@ public sealed class FitReport : IReport<FitResult>
                 var band = top.Add.FillY(cx, [.. model.Select((m, k) => m + z * sd[k])], [.. model.Select((m, k) => m - z * sd[k])]);
                 band.FillColor = color.WithAlpha(0.2);
                 band.LineWidth = 0;
-                band.LegendText = $"{label} model {fit.Confidence:P0} band";
+                band.LegendText = $"{label} model {fit.Confidence * 100:G3}% band";
             }
             var line = top.Add.ScatterLine(cx, model);
             line.Color = color;
@@ -219,7 +219,7 @@ public sealed class FitReport : IReport<FitResult>
             var marks = top.Add.ScatterPoints(dx, y);
             marks.Color = color;
             marks.MarkerSize = 7;
-            marks.LegendText = $"{label} data ({fit.Confidence:P0} interval)";
+            marks.LegendText = $"{label} data ({fit.Confidence * 100:G3}% interval)";
 
             double[] residual = [.. fit.Delays.Select(d =>
             {
