@@ -122,7 +122,7 @@ public static class SweepPlot
         ax.Apply(plot.Axes.Bottom, x);
         ay.Apply(plot.Axes.Left, y);
         plot.Title(label.Name);
-        plot.ShowLegend(Alignment.UpperRight);
+        plot.ShowLegend(Edge.Bottom);
         return plot;
     }
 
