@@ -45,7 +45,7 @@ public static class FitCommand
         var output = Cli.OutOption();
         var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
-        var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
+        var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet, fit.png/.svg and the results table fit.md/.tex.")
         {
             scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, format, quiet,
         };

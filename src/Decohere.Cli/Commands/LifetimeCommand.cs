@@ -33,7 +33,7 @@ public static class LifetimeCommand
         var quiet = Cli.QuietOption();
         var command = new Command("lifetime",
             "Physical and observable squeezing lifetime after the drives stop, the single-mode estimate, sensitivities; " +
-            "writes lifetime.json, lifetime.parquet and lifetime.png.")
+            "writes lifetime.json, lifetime.parquet and lifetime.png/.svg.")
         {
             scenario, after, threshold, confidence, output, format, quiet,
         };

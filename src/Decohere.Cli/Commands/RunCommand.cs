@@ -32,7 +32,7 @@ public static class RunCommand
         var quiet = Cli.QuietOption();
         var command = new Command("run",
             "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
-            "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png).")
+            "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png/.svg, iq.png/.svg).")
         {
             scenario, output, format, seed, trajectories, quiet,
         };

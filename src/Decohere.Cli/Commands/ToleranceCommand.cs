@@ -44,7 +44,7 @@ public static class ToleranceCommand
         var quiet = Cli.QuietOption();
         var command = new Command("tolerance",
             "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
-            "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png.")
+            "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png/.svg.")
         {
             scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, format, quiet,
         };
