@@ -11,11 +11,14 @@ namespace Decohere.Reports.Plotting;
 public static class Ticks
 {
     /// <summary>A number as a tick label: up to four significant digits, powers of ten outside 10⁻³…10⁵.</summary>
-    public static string Label(double v)
+    public static string Label(double v) => Format(v, powers: false);
+
+    // With powers, every non-zero value is written as a power of ten (one notation along a log axis).
+    private static string Format(double v, bool powers)
     {
         if (v == 0 || !double.IsFinite(v)) return v == 0 ? "0" : "";
         double a = Math.Abs(v);
-        if (a >= 1e-3 && a < 1e5)
+        if (a >= 1e-3 && a < 1e5 && !powers)
         {
             // Four significant digits, never in exponent form ("20000", not "2E+04").
             double rounded = Math.Round(v, Math.Max(0, 3 - (int)Math.Floor(Math.Log10(a))));
@@ -75,7 +78,9 @@ public static class Ticks
     {
         var ticks = new ScottPlot.TickGenerators.NumericManual();
         var majors = LogValues(lo, hi);
-        foreach (double v in majors) ticks.AddMajor(Math.Log10(v), Label(v));
+        // One notation along the axis: all powers of ten as soon as one label needs it ("10², 10³, 10⁵", not "100, 1000, 10⁵").
+        bool powers = majors.Any(v => Math.Abs(v) < 1e-3 || Math.Abs(v) >= 1e5);
+        foreach (double v in majors) ticks.AddMajor(Math.Log10(v), Format(v, powers));
         if (hi - lo < 6)
             for (int e = (int)Math.Floor(lo); e <= (int)Math.Ceiling(hi); e++)
                 for (int m = 1; m <= 9; m++)
