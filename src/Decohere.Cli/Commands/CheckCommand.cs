@@ -7,13 +7,13 @@ using Decohere.Model.Readouts;
 
 namespace Decohere.Cli.Commands;
 
-/// <summary><c>decohere check SCENARIO</c>: validate and print the derived quantities a physicist checks first.</summary>
+/// <summary><c>decohere check [SCENARIO]</c> (the built-in demo without one): validate and print the derived quantities a physicist checks first.</summary>
 public static class CheckCommand
 {
     /// <summary>Builds the command.</summary>
     public static Command Create(AppConsole console)
     {
-        var scenario = Cli.ScenarioArgument(optional: false);
+        var scenario = Cli.ScenarioArgument(optional: true);
         var command = new Command("check", "Validate a scenario and print couplings, cooperativities, bath occupancies, decoherence rates, stage stability, predicted squeezing and warnings.")
         {
             scenario,

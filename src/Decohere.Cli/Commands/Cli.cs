@@ -148,13 +148,40 @@ public static class Cli
     /// Writes a result through its report into a directory the command owns: the command's stale outputs there are
     /// removed first and the files written are recorded in the directory's manifest.
     /// </summary>
-    public static async Task<IReadOnlyList<string>> WriteOwned<T>(IReport<T> report, T result, string directory, OutputSet files, CancellationToken cancel)
+    public static async Task<IReadOnlyList<string>> WriteOwned<T>(IReport<T> report, T result, string directory, OutputSet files, CancellationToken cancel,
+        bool csv = false)
     {
         var owned = IO.OutputDirectory.Claim(directory, files);
-        var paths = await report.WriteAsync(result, directory, cancel);
+        var paths = WithCsv(await report.WriteAsync(result, directory, cancel), csv, cancel);
         owned.Record(paths);
         return paths;
     }
+
+    /// <summary>--format parquet,csv: Parquet is always written; csv adds a CSV copy beside each table.</summary>
+    public static Option<string> FormatOption()
+    {
+        var option = new Option<string>("--format")
+        {
+            Description = $"Table formats, a list of {CsvExport.Formats} (Parquet is always written; csv adds NAME.csv beside each NAME.parquet).",
+            DefaultValueFactory = _ => "parquet",
+        };
+        option.Validators.Add(result =>
+        {
+            try
+            {
+                CsvExport.WantsCsv(result.GetValueOrDefault<string>());
+            }
+            catch (InputException e)
+            {
+                result.AddError("--format" + e.Message["format".Length..]);
+            }
+        });
+        return option;
+    }
+
+    /// <summary>The paths written plus, when <paramref name="csv"/>, a CSV copy of each Parquet table among them.</summary>
+    public static IReadOnlyList<string> WithCsv(IReadOnlyList<string> paths, bool csv, CancellationToken cancel) =>
+        csv ? [.. paths, .. CsvExport.Beside(paths, cancel)] : paths;
 
     /// <summary>
     /// Runs a command body, turning the library's exceptions into messages and exit codes. The library names its

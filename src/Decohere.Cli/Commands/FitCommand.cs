@@ -43,11 +43,12 @@ public static class FitCommand
         var starts = new Option<int>("--starts") { Description = "Optimiser starts (default 4).", DefaultValueFactory = _ => 4 };
         var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
-        var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
+        var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet, fit.png/.svg and the results table fit.md/.tex.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, format, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
@@ -63,7 +64,7 @@ public static class FitCommand
             };
             var result = FitAnalysis.Solve(s, settings, fitData, cancel);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel);
+            var paths = await Cli.WriteOwned(new FitReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Fit, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));
@@ -84,26 +85,15 @@ public static class FitCommand
         ["data file"] = "--data",
     };
 
-    /// <summary>The terminal table: each free parameter and derived quantity with its error and interval.</summary>
+    /// <summary>The terminal table: each free parameter, derived quantity and identified combination, named and scaled as in fit.md.</summary>
     public static Table Table(FitResult fit)
     {
         var table = new Table().Title($"[bold]{Markup.Escape(fit.Scenario.Name)}[/]: fit to {Markup.Escape(fit.Data.Source)} " +
             $"({fit.Data.Delays.Length} delays, {fit.Data.Shape.ToString().ToLowerInvariant()})");
-        foreach (var h in new[] { "quantity", "value", "std. error", $"{fit.Confidence:P0} interval", "method" })
+        foreach (var h in new[] { "quantity", "value", "std. error", $"{fit.Confidence * 100:G3}% interval", "unit", "method" })
             table.AddColumn(new TableColumn(h).RightAligned());
-        for (int k = 0; k < fit.Parameters.Length; k++)
-            Row(table, fit.Parameters[k], fit.Paths[k].Dimension);
-        foreach (var d in fit.Derived)
-            Row(table, d, d.Name switch { "bath_temperature_k" => Dimension.Temperature, "linewidth_hz" => Dimension.Frequency, "energy_decay_time_s" => Dimension.Time, _ => Dimension.Dimensionless }, derived: true);
+        foreach (var r in FitTables.Rows(fit))
+            table.AddRow(Markup.Escape(r.Quantity), r.Value, r.StandardError, Markup.Escape($"{r.Low} – {r.High}"), Markup.Escape(r.Unit), Markup.Escape(r.Method));
         return table;
-    }
-
-    private static void Row(Table table, FittedQuantity e, Dimension dimension, bool derived = false)
-    {
-        string F(double v) => double.IsPositiveInfinity(v) ? "∞" : dimension == Dimension.Dimensionless ? v.ToString("G4") : Quantity.Format(v, dimension);
-        string low = e.LowReached ? F(e.Low) : $"({F(e.Low)})";
-        string high = e.HighReached ? F(e.High) : "∞";
-        table.AddRow(Markup.Escape(derived ? "  " + e.Name : e.Name), F(e.Value), double.IsFinite(e.StandardError) ? F(e.StandardError) : "–",
-            $"{low} – {high}", e.Method);
     }
 }

@@ -19,7 +19,7 @@ public static class FitNoiseCommand
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
         var scenario = new Option<FileInfo?>("--scenario") { Description = "Scenario whose readout chain predicts the added noise; the calibration is compared with it." };
-        var command = new Command("fit-noise", "Calibrate the readout: fit var = gain·(occupancy + ½) + added_noise to variances measured at known occupancies; write fit-noise.json.")
+        var command = new Command("fit-noise", "Calibrate the readout: fit var = gain·(occupancy + ½) + added_noise to variances measured at known occupancies; write fit-noise.json and fit-noise.png/.svg.")
         {
             data, columns, scenario, output, quiet,
         };

@@ -29,12 +29,13 @@ public static class LifetimeCommand
             DefaultValueFactory = _ => 0.95,
         };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("lifetime",
             "Physical and observable squeezing lifetime after the drives stop, the single-mode estimate, sensitivities; " +
-            "writes lifetime.json, lifetime.parquet and lifetime.png.")
+            "writes lifetime.json, lifetime.parquet and lifetime.png/.svg.")
         {
-            scenario, after, threshold, confidence, output, quiet,
+            scenario, after, threshold, confidence, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -47,7 +48,7 @@ public static class LifetimeCommand
             };
             var result = LifetimeAnalysis.Solve(s, settings);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new LifetimeReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Lifetime, cancel);
+            var paths = await Cli.WriteOwned(new LifetimeReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Lifetime, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

@@ -14,9 +14,10 @@ public static class MergeCommand
     {
         var directory = new Argument<DirectoryInfo>("dir") { Description = "Directory holding the part-K-of-N.parquet files of one sweep." };
         var quiet = Cli.QuietOption();
+        var format = Cli.FormatOption();
         var command = new Command("merge", "Merge the part files of a sharded sweep into sweep.parquet (the table an unsharded sweep writes) and sweep.png; names missing or duplicated points.")
         {
-            directory, quiet,
+            directory, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, null, async () =>
         {
@@ -25,7 +26,7 @@ public static class MergeCommand
             var owned = Directory.Exists(dir) ? OutputDirectory.Claim(dir, OutputSet.Sweep) : null;
             var parts = await SweepTable.ReadPartsAsync(dir, cancel);
             var result = SweepMerge.Solve(parts, dir);
-            var paths = await new SweepReport().WriteAsync(result, dir, cancel);
+            var paths = Cli.WithCsv(await new SweepReport().WriteAsync(result, dir, cancel), CsvExport.WantsCsv(parse.GetValue(format)), cancel);
             owned?.Record(paths);
             if (!parse.GetValue(quiet))
                 console.Out.MarkupLineInterpolated($"merged {parts.Count} part files: {result.Rows.Count} points, {result.Failed} failed");

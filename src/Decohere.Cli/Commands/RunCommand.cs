@@ -23,6 +23,7 @@ public static class RunCommand
     {
         var scenario = Cli.ScenarioArgument(optional: true);
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var seed = new Option<long?>("--seed") { Description = "Random seed (overrides the scenario's seed)." };
         var trajectories = new Option<int>("--trajectories")
         {
@@ -33,9 +34,9 @@ public static class RunCommand
         var limits = new Cli.LimitOptions();
         var command = new Command("run",
             "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
-            "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png).")
+            "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png/.svg, iq.png/.svg).")
         {
-            scenario, output, seed, trajectories, quiet,
+            scenario, output, format, seed, trajectories, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         var flags = new Dictionary<string, string> { ["trajectories"] = "--trajectories" };
@@ -60,15 +61,16 @@ public static class RunCommand
                     .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
                     .StartAsync(context => RunAnalysis.SolveAsync(s, settings, files, new ProgressBars(context), OnReadout, cancel))
                 : await RunAnalysis.SolveAsync(s, settings, files, null, OnReadout, cancel);
-            var paths = await new RunReport().WriteAsync(result, dir, cancel);
+            var paths = await new RunReport(files).WriteAsync(result, dir, cancel);
             if (!isQuiet)
             {
                 console.Out.Write(StageTable(result.Dynamics));
                 if (result.Sampling is { } sampling) console.Out.Write(EstimateTable(sampling));
                 console.Warnings(result.Warnings);
             }
-            owned.Record([.. paths, .. files.Paths]);
-            console.Paths([.. paths, .. files.Paths]);
+            var written = Cli.WithCsv([.. paths, .. files.Paths], CsvExport.WantsCsv(parse.GetValue(format)), cancel);
+            owned.Record(written);
+            console.Paths(written);
             return Cli.Ok;
         }));
         return command;
@@ -94,6 +96,8 @@ public static class RunCommand
         foreach (var h in new[] { "delay", "quantity", "estimate", "95% interval", "model", "z" })
             table.AddColumn(new TableColumn(h).RightAligned());
         string[] names = ["var_x", "var_p", "var_min", "var_max", "occupancy", "squeezing (dB)"];
+        // One unit for all delays, chosen from the set ("0 ms, 1 ms, 8 ms").
+        var delays = Reports.Plotting.DisplayUnits.FormatAll([.. sampler.Delays.Select(d => d.DelayS)], Dimension.Time);
         for (int k = 0; k < sampling.Estimates.Count; k++)
         {
             var e = sampling.Estimates[k];
@@ -103,7 +107,7 @@ public static class RunCommand
                 var v = values[q];
                 string format = q == values.Length - 1 ? "F2" : "G4";
                 string colour = Math.Abs(v.Z) > 3 ? "red" : "default";
-                table.AddRow(q == 0 ? Markup.Escape(Quantity.Format(sampler.Delays[k].DelayS, Dimension.Time)) : "", names[q],
+                table.AddRow(q == 0 ? Markup.Escape(delays[k]) : "", names[q],
                     N(v.Value, format), $"[[{N(v.Low, format)}, {N(v.High, format)}]]", N(v.Model, format), $"[{colour}]{N(v.Z, "F1")}[/]");
             }
         }

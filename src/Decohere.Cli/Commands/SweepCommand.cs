@@ -34,11 +34,12 @@ public static class SweepCommand
         var seed = new Option<long?>("--seed") { Description = "Master seed (overrides the scenario's); each point's seed follows from it and the point index." };
         var threads = new Option<int?>("--threads") { Description = "Worker threads (default: every core)." };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
         var command = new Command("sweep", "Evaluate metrics (steady squeezing, stability, occupancy, resolution probability, …) over a grid of parameters; write sweep.parquet and sweep.png.")
         {
-            scenario, vary, zip, metrics, shard, resume, seed, threads, output, quiet,
+            scenario, vary, zip, metrics, shard, resume, seed, threads, output, format, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
@@ -73,7 +74,7 @@ public static class SweepCommand
                 return Cli.Failure;
             }
 
-            var paths = await new SweepReport().WriteAsync(result, dir, cancel);
+            var paths = Cli.WithCsv(await new SweepReport().WriteAsync(result, dir, cancel), CsvExport.WantsCsv(parse.GetValue(format)), cancel);
             if (!isQuiet)
             {
                 if (result.Shard is null && !SweepPlot.CanPlot(result.Description))

@@ -41,13 +41,14 @@ public static class ToleranceCommand
         var after = new Option<string?>("--after") { Description = "Count the delay from the end of this stage (default: the last stage with tones)." };
         var draws = new Option<int>("--draws") { Description = "Monte Carlo draws per grid point (default 4000).", DefaultValueFactory = _ => 4000 };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
         var command = new Command("tolerance",
             "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
-            "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png.")
+            "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png/.svg.")
         {
-            scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, quiet,
+            scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, format, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
@@ -68,7 +69,7 @@ public static class ToleranceCommand
             ResourceEstimates.Tolerance(settings).Enforce(limits.Read(parse));
             var s = Cli.Load(parse.GetValue(scenario));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
-            var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel);
+            var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(PowerTable(result));

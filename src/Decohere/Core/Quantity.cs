@@ -97,7 +97,9 @@ public static partial class Quantity
         {
             if (name == unit)
             {
-                value = number * factor;
+                // A power-of-ten unit shifts the decimal exponent, so "0.7 ms" is the double nearest 0.0007 (as the user
+                // wrote it), not 0.7 × 0.001 rounded twice.
+                value = Shifted(match.Groups[1].Value, factor) ?? number * factor;
                 if (double.IsFinite(value)) return true;
                 error = FormattableString.Invariant($"'{text}' is not a finite number in {SiUnit(dimension)} ({number:G3} × {factor:G3} overflows)");
                 return false;
@@ -111,6 +113,18 @@ public static partial class Quantity
         return false;
     }
 
+    // The decimal text times a power-of-ten factor, rounded once; null when the factor is not a power of ten (degrees).
+    private static double? Shifted(string text, double factor)
+    {
+        double shift = Math.Round(Math.Log10(factor));
+        if (Math.Pow(10, shift) != factor) return null;
+        int e = text.IndexOfAny(['e', 'E']);
+        long exponent = 0;
+        if (e >= 0 && !long.TryParse(text.AsSpan(e + 1), NumberStyles.AllowLeadingSign, CultureInfo.InvariantCulture, out exponent)) return null;
+        string mantissa = e >= 0 ? text[..e] : text;
+        return double.Parse(FormattableString.Invariant($"{mantissa}e{exponent + (long)shift}"), NumberStyles.Float, CultureInfo.InvariantCulture);
+    }
+
     private static string Expected(Dimension dimension) => dimension == Dimension.Dimensionless
         ? " (a plain number)"
         : $" (units: {string.Join(", ", UnitsOf(dimension))}, or a bare number in {SiUnit(dimension)})";
@@ -119,6 +133,8 @@ public static partial class Quantity
     public static string Format(double value, Dimension dimension, int digits = 4)
     {
         if (!double.IsFinite(value)) return value.ToString(CultureInfo.InvariantCulture);
+        // Zero has no natural prefix: it is shown in the SI unit ("0 s", never "0 ns").
+        if (value == 0) return $"0 {SiUnit(dimension)}".TrimEnd();
         (string, double)[] scales = dimension switch
         {
             Dimension.Frequency => [("GHz", 1e9), ("MHz", 1e6), ("kHz", 1e3), ("Hz", 1), ("mHz", 1e-3)],

@@ -12,25 +12,26 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
 {
     /// <summary><c>run</c>: covariances, shots, estimates, trajectories, summary and plots.</summary>
     public static OutputSet Run { get; } = new("run",
-        ["covariance.parquet", "summary.json", "variance.png", "variance.svg", "shots.parquet", "estimates.parquet", "estimates.png", "trajectories.parquet"]);
+        ["covariance.parquet", "summary.json", "variance.png", "variance.svg", "shots.parquet", "estimates.parquet", "estimates.png",
+         "estimates.svg", "iq.png", "iq.svg", "trajectories.parquet", "covariance.csv", "shots.csv", "estimates.csv", "trajectories.csv"]);
 
     /// <summary><c>lifetime</c>.</summary>
-    public static OutputSet Lifetime { get; } = new("lifetime", ["lifetime.json", "lifetime.parquet", "lifetime.png"]);
+    public static OutputSet Lifetime { get; } = new("lifetime", ["lifetime.json", "lifetime.parquet", "lifetime.png", "lifetime.svg", "lifetime.csv"]);
 
     /// <summary><c>tolerance</c>.</summary>
-    public static OutputSet Tolerance { get; } = new("tolerance", ["tolerance.json", "tolerance.parquet", "tolerance.png"]);
+    public static OutputSet Tolerance { get; } = new("tolerance", ["tolerance.json", "tolerance.parquet", "tolerance.png", "tolerance.svg", "tolerance.csv"]);
 
     /// <summary><c>fit</c>.</summary>
-    public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png"]);
+    public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png", "fit.svg", "fit.md", "fit.tex", "fit.csv"]);
 
     /// <summary><c>fit-noise</c>.</summary>
-    public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json"]);
+    public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json", "fit-noise.png", "fit-noise.svg"]);
 
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
-    public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png"]);
+    public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg", "sweep.csv"]);
 
     /// <summary>One shard of a sweep: only its own part file, never the other shards' (they may be running now).</summary>
-    public static OutputSet SweepPart(string partFile) => new($"sweep {partFile}", [partFile]);
+    public static OutputSet SweepPart(string partFile) => new($"sweep {partFile}", [partFile, Path.ChangeExtension(partFile, ".csv")]);
 }
 
 /// <summary>

@@ -4,7 +4,7 @@ using Decohere.Core;
 
 namespace Decohere.Reports;
 
-/// <summary>Writes a noise calibration's fit-noise.json: gain, added noise and the input-referred added noise with intervals.</summary>
+/// <summary>Writes a noise calibration's fit-noise.json (gain, added noise and the input-referred added noise with intervals) and fit-noise.png/.svg.</summary>
 public sealed class CalibrationReport : IReport<CalibrationResult>
 {
     /// <inheritdoc/>
@@ -21,7 +21,8 @@ public sealed class CalibrationReport : IReport<CalibrationResult>
             json["scenario_readout"] = readout;
         }
         SummaryJson.Write(json, path);
-        return Task.FromResult<IReadOnlyList<string>>([path]);
+        cancel.ThrowIfCancellationRequested();
+        return Task.FromResult<IReadOnlyList<string>>([path, .. CalibrationPlot.Save(result, Path.Combine(directory, "fit-noise"))]);
     }
 
     /// <summary>The content of fit-noise.json.</summary>

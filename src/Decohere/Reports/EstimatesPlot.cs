@@ -1,88 +1,83 @@
 using ScottPlot;
-using System.Globalization;
-using Decohere.IO;
+using Decohere.Engine;
+using Decohere.Reports.Plotting;
 using Decohere.Sampling;
 using Decohere.Statistics;
 
 namespace Decohere.Reports;
 
-/// <summary>estimates.png: estimated var_min and var_max per delay with their intervals, over the model's curves, log axis.</summary>
+/// <summary>
+/// estimates.png/.svg: estimated var_min and var_max per delay with their intervals over the model's curves (the run's
+/// covariance table between the delays, and the model at each delay), log variance axis.
+/// </summary>
 public static class EstimatesPlot
 {
-    /// <summary>Renders the plot to PNG, written atomically.</summary>
-    public static void Save(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string pngPath)
-    {
-        var plot = Build(sampler, estimates);
-        AtomicFile.Write(pngPath, tmp => plot.SavePng(tmp, 1200, 700));
-    }
+    /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
+    public static string[] Save(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
+        Figure.Save(Build(evolution, sampler, estimates), stem);
 
-    private static Plot Build(ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates)
+    private static Plot Build(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates)
     {
-        var plot = new Plot();
+        var plot = Figure.New();
         var delays = sampler.Delays;
-        double first = delays.Min(d => d.TimeS), last = delays.Max(d => d.TimeS);
-        double start = sampler.Dynamics.StageStarts[sampler.Scenario.StageIndex(sampler.Scenario.Readout!.Stage)];
-        const int points = 200;
-        var t = new double[points];
-        var min = new double[points];
-        var max = new double[points];
-        for (int k = 0; k < points; k++)
+        double start = delays[0].TimeS - delays[0].DelayS;
+        double first = delays.Min(d => d.DelayS), last = delays.Max(d => d.DelayS);
+        var axis = new TimeAxis(delays.Select(d => d.DelayS));
+        int mode = evolution.ModeNames.IndexOf(sampler.Chain.Mode);
+        // The model curve: the covariance table's rows between the first and the last delay, and the exact model at each delay.
+        var curve = new SortedDictionary<double, ModeMoments>();
+        for (int k = 0; k < evolution.Times.Length; k++)
         {
-            double time = last > first ? first + (last - first) * k / (points - 1) : first;
-            var m = sampler.Dynamics.StateAt(time).Moments(sampler.Chain.ModeIndex);
-            t[k] = (time - start) * 1e3;
-            min[k] = Log(m.VarMin);
-            max[k] = Log(m.VarMax);
+            double delay = evolution.Times[k] - start;
+            if (mode >= 0 && delay >= first && delay <= last && (delay > 0 || !axis.Log)) curve[delay] = evolution.Moments[k, mode];
         }
-        var palette = new ScottPlot.Palettes.Category10();
-        // The axis spans the model and the estimates; an interval reaching zero or below (noise subtraction
-        // overshooting) is drawn down to the axis floor instead of stretching the axis over decades.
+        foreach (var d in delays) curve[d.DelayS] = d.Model;
+        double[] t = axis.At(curve.Keys);
+        double[] min = [.. curve.Values.Select(m => Log(m.VarMin))], max = [.. curve.Values.Select(m => Log(m.VarMax))];
+        // An interval reaching zero or below (noise subtraction overshooting) is drawn down to the axis floor instead of
+        // stretching the axis over decades.
         double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
-            estimates.Select(e => e.VarMin.Value).Where(v => v > 0).Select(Log).DefaultIfEmpty(double.PositiveInfinity).Min()) - 0.5;
-        var lo = floor;
-        var hi = max.Max();
-        void Series(double[] curve, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
+            estimates.Select(e => e.VarMin.Value).Where(v => v > 0).Select(Log).DefaultIfEmpty(double.PositiveInfinity).Min()) - 0.3;
+        double hi = max.Max();
+        void Series(double[] model, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
         {
-            var line = plot.Add.ScatterLine(t, curve);
+            var line = plot.Add.ScatterLine(t, model);
             line.Color = color;
-            line.LineWidth = 2;
-            line.LegendText = $"{name} (model)";
+            line.LineWidth = Figure.LineWidth;
+            line.LegendText = $"{name}, model";
             var xs = new double[estimates.Count];
             var ys = new double[estimates.Count];
             for (int k = 0; k < estimates.Count; k++)
             {
                 var e = pick(estimates[k]);
-                xs[k] = delays[k].DelayS * 1e3;
+                xs[k] = axis.At(delays[k].DelayS);
                 ys[k] = Math.Max(Log(e.Value), floor);
                 var bar = plot.Add.Line(xs[k], Math.Max(Log(e.Low), floor), xs[k], Log(e.High));
                 bar.Color = color;
-                bar.LineWidth = 2;
+                bar.LineWidth = Figure.LineWidth;
+                bar.MarkerSize = 0;
                 hi = Math.Max(hi, Log(e.High));
             }
             var marks = plot.Add.ScatterPoints(xs, ys);
             marks.Color = color;
-            marks.MarkerSize = 9;
-            marks.LegendText = $"{name} (estimated, {sampler.ShotsPerDelay} shots, 95% interval)";
+            marks.MarkerSize = 10;
+            marks.LegendText = $"{name}, from shots (95% interval)";
         }
-        Series(min, e => e.VarMin, "var_min", palette.GetColor(0));
-        Series(max, e => e.VarMax, "var_max", palette.GetColor(1));
+        Series(min, e => e.VarMin, "var_min", Figure.Colour(0));
+        Series(max, e => e.VarMax, "var_max", Figure.Colour(1));
 
         var zero = plot.Add.HorizontalLine(Log(0.5));
-        zero.Color = Colors.Black;
+        zero.Color = Figure.Ink;
+        zero.LineWidth = 1;
         zero.LinePattern = LinePattern.Dotted;
         zero.LegendText = "zero-point (0.5)";
-        plot.Axes.Left.TickGenerator = new ScottPlot.TickGenerators.NumericAutomatic
-        {
-            MinorTickGenerator = new ScottPlot.TickGenerators.LogMinorTickGenerator(),
-            IntegerTicksOnly = true,
-            LabelFormatter = y => Math.Pow(10, y).ToString("G3", CultureInfo.InvariantCulture),
-        };
-        double pad = 0.08 * Math.Max(hi - lo, 0.5);
-        plot.Axes.SetLimitsY(lo - pad, hi + pad);
-        plot.XLabel($"delay after the start of stage '{sampler.Scenario.Readout!.Stage}' (ms)");
-        plot.YLabel($"{sampler.Chain.Mode} quadrature variance (quanta, log scale)");
-        plot.Title($"{sampler.Scenario.Name}: inferred from shots (added noise {sampler.Chain.AddedNoise:G3} subtracted) vs model");
-        plot.ShowLegend(Alignment.LowerRight);
+        double pad = 0.06 * Math.Max(hi - floor, 0.5);
+        Ticks.Log(plot.Axes.Left, floor - pad, hi + pad);
+        plot.Axes.SetLimitsY(floor - pad, hi + pad);
+        axis.Apply(plot.Axes.Bottom, $"delay after the start of {sampler.Scenario.Readout!.Stage}", first, last);
+        plot.YLabel($"{sampler.Chain.Mode} quadrature variance (quanta)");
+        plot.Title($"{sampler.Scenario.Name}: {sampler.ShotsPerDelay} shots per delay, added noise {sampler.Chain.AddedNoise:G3} subtracted");
+        Figure.LegendOutside(plot);
         return plot;
     }
 

@@ -35,8 +35,7 @@ public sealed class FitReport : IReport<FitResult>
         await WriteTableAsync(fit, table, metadata, cancel);
         SummaryJson.Write(Json(fit, metadata), json);
         cancel.ThrowIfCancellationRequested();
-        SavePlot(fit, png);
-        return [json, table, png];
+        return [json, table, .. SavePlot(fit, Path.ChangeExtension(png, null)), .. FitTables.Write(fit, directory)];
     }
 
     internal static JsonObject EstimateJson(FittedQuantity e, string? unit = null)
@@ -165,17 +164,20 @@ public sealed class FitReport : IReport<FitResult>
         await ParquetTable.WriteAsync(path, Columns, cols, meta, cancel: cancel);
     }
 
-    /// <summary>Renders fit.png: data with their 95% error bars, the fitted curve with its band, and a residual panel below.</summary>
-    public static void SavePlot(FitResult fit, string path)
+    /// <summary>
+    /// Renders fit.png/.svg: data with their 95% error bars, the fitted curve with its band, and a residual panel below;
+    /// a log delay axis when the delays span decades, legends beside the data. Returns the paths.
+    /// </summary>
+    public static string[] SavePlot(FitResult fit, string stem)
     {
         double z = MathNet.Numerics.Distributions.Normal.InvCDF(0, 1, 0.5 + fit.Confidence / 2);
-        double maxDelay = fit.Curve.DelaysS.Max();
-        var (scale, unit) = maxDelay >= 1 ? (1.0, "s") : maxDelay >= 1e-3 ? (1e3, "ms") : (1e6, "µs");
-        var top = new Plot();
-        var bottom = new Plot();
-        var palette = new ScottPlot.Palettes.Category10();
-        double[] cx = [.. fit.Curve.DelaysS.Select(t => t * scale)];
-        double[] dx = [.. fit.Delays.Select(d => d.Data.DelayS * scale)];
+        var axis = new Plotting.TimeAxis(fit.Delays.Select(d => d.Data.DelayS));
+        var top = Plotting.Figure.New();
+        var bottom = Plotting.Figure.New();
+        // On a log axis the curve starts at the first positive delay (a zero delay is a marker left of the break).
+        int[] shown = [.. Enumerable.Range(0, fit.Curve.DelaysS.Length).Where(k => !axis.Log || fit.Curve.DelaysS[k] > 0)];
+        double[] cx = [.. shown.Select(k => axis.At(fit.Curve.DelaysS[k]))];
+        double[] dx = [.. fit.Delays.Select(d => axis.At(d.Data.DelayS))];
         bool variances = fit.Data.Shape != DataShape.Occupancies;
         var series = variances
             ? new (string Label, Func<ReadoutPrediction, double> Get, Func<DelayObservation, double> Data)[]
@@ -184,19 +186,19 @@ public sealed class FitReport : IReport<FitResult>
         for (int s = 0; s < series.Length; s++)
         {
             var (label, get, data) = series[s];
-            var color = palette.GetColor(s);
-            double[] model = [.. fit.Curve.Model.Select(get)];
-            double[] sd = [.. fit.Curve.ModelSd.Select(get)];
+            var color = Plotting.Figure.Colour(s);
+            double[] model = [.. shown.Select(k => get(fit.Curve.Model[k]))];
+            double[] sd = [.. shown.Select(k => get(fit.Curve.ModelSd[k]))];
             if (sd.All(double.IsFinite))
             {
                 var band = top.Add.FillY(cx, [.. model.Select((m, k) => m + z * sd[k])], [.. model.Select((m, k) => m - z * sd[k])]);
                 band.FillColor = color.WithAlpha(0.2);
                 band.LineWidth = 0;
-                band.LegendText = $"{label} model {fit.Confidence:P0} band";
+                band.LegendText = $"{label} model {fit.Confidence * 100:G3}% band";
             }
             var line = top.Add.ScatterLine(cx, model);
             line.Color = color;
-            line.LineWidth = 2;
+            line.LineWidth = Plotting.Figure.LineWidth;
             line.LegendText = $"{label} fit";
 
             double[] y = [.. fit.Delays.Select(d => data(d.Data))];
@@ -218,7 +220,7 @@ public sealed class FitReport : IReport<FitResult>
             var marks = top.Add.ScatterPoints(dx, y);
             marks.Color = color;
             marks.MarkerSize = 7;
-            marks.LegendText = $"{label} data ({fit.Confidence:P0} interval)";
+            marks.LegendText = $"{label} data ({fit.Confidence * 100:G3}% interval)";
 
             double[] residual = [.. fit.Delays.Select(d =>
             {
@@ -244,19 +246,24 @@ public sealed class FitReport : IReport<FitResult>
             zp.LinePattern = LinePattern.Dotted;
             zp.LegendText = "zero-point + added noise";
         }
-        string headline = string.Join(", ", fit.Derived.Where(d => d.Name is "bath_temperature_k" or "thermal_decoherence_rate_per_s")
-            .Select(d => d.Name == "bath_temperature_k"
-                ? $"T = {Quantity.Format(d.Value, Dimension.Temperature, 3)} [{Quantity.Format(d.Low, Dimension.Temperature, 3)}, {Quantity.Format(d.High, Dimension.Temperature, 3)}]"
-                : $"γ·n_th = {d.Value.ToString("G3", CultureInfo.InvariantCulture)} s⁻¹"));
-        top.Title($"{fit.Scenario.Name}: fit of {string.Join(", ", fit.Paths.Select(p => p.Text))}" + (headline.Length > 0 ? $"\n{headline}" : ""));
+        string headline = string.Join(";  ", fit.Derived.Where(d => d.Name is "bath_temperature_k" or "thermal_decoherence_rate_per_s")
+            .Select(d => $"{(d.Name == "bath_temperature_k" ? "T" : "γ·n_th")} = {FitTables.Interval(d, Plotting.QuantityLabels.For(d.Name))}"));
+        top.Title($"{fit.Scenario.Name}: fit of {string.Join(", ", fit.Paths.Select(p => Plotting.QuantityLabels.For(p.Text, fit.Scenario).Name))}" +
+                  (headline.Length > 0 ? $"\n{headline} ({fit.Confidence * 100:G3}% intervals)" : ""));
         top.YLabel(variances ? "quadrature variance (quanta)" : "occupancy (quanta)");
-        top.ShowLegend(Alignment.MiddleLeft);
-        bottom.YLabel(variances ? "residual (σ)" : "residual (σ)");
-        bottom.XLabel($"delay from start of stage '{fit.Scenario.Readout!.Stage}' ({unit})");
-        double pad = 0.03 * maxDelay * scale;
-        top.Axes.SetLimitsX(-pad, maxDelay * scale + pad);
-        bottom.Axes.SetLimitsX(-pad, maxDelay * scale + pad);
+        bottom.YLabel("residual (σ)");
+        double first = fit.Delays.Min(d => d.Data.DelayS), last = fit.Delays.Max(d => d.Data.DelayS);
+        string name = $"delay from the start of {fit.Scenario.Readout!.Stage}";
+        axis.Apply(top.Axes.Bottom, name, first, last);
+        axis.Apply(bottom.Axes.Bottom, name, first, last);
+        top.Axes.Bottom.Label.Text = "";
+        Plotting.Ticks.Linear(top.Axes.Left);
+        Plotting.Ticks.Linear(bottom.Axes.Left);
         bottom.Axes.SetLimitsY(-4, 4);
+        // The legend sits in a fixed right margin of both panels, so their data areas stay aligned.
+        Plotting.Figure.LegendOutside(top);
+        top.Layout.Fixed(new PixelPadding(90, 340, 60, 90));
+        bottom.Layout.Fixed(new PixelPadding(90, 340, 70, 20));
 
         var multi = new Multiplot();
         multi.Reset(top);
@@ -264,6 +271,6 @@ public sealed class FitReport : IReport<FitResult>
         var layout = new ScottPlot.MultiplotLayouts.DraggableRows();
         layout.SetHeights([620f, 280f]);
         multi.Layout = layout;
-        AtomicFile.Write(path, tmp => multi.SavePng(tmp, 1200, 900));
+        return Plotting.Figure.Save(multi, stem, 1400, 900);
     }
 }

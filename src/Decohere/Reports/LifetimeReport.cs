@@ -32,9 +32,7 @@ public sealed class LifetimeReport : IReport<LifetimeResult>
         cancel.ThrowIfCancellationRequested();
         SummaryJson.Write(Json(report, metadata), json);
         cancel.ThrowIfCancellationRequested();
-        var plot = Plot(report, delays, db, power);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 700));
-        return [json, table, png];
+        return [json, table, .. Plotting.Figure.Save(Plot(report, delays, db, power), Path.ChangeExtension(png, null))];
     }
 
     /// <summary>The content of lifetime.json.</summary>
@@ -94,50 +92,64 @@ public sealed class LifetimeReport : IReport<LifetimeResult>
     private static Plot Plot(LifetimeResult report, double[] delays, double[] db, double?[] power)
     {
         var c = report.Core;
-        var plot = new Plot();
-        double[] ms = delays.Select(d => d * 1e3).ToArray();
-        var line = plot.Add.ScatterLine(ms, db);
-        line.LineWidth = 2;
-        line.Color = Colors.SteelBlue;
-        line.LegendText = $"{c.Mode} squeezing (dB)";
+        var plot = Plotting.Figure.New();
+        var unit = Plotting.DisplayUnits.For(Dimension.Time, delays);
+        double[] t = [.. delays.Select(unit.From)];
+        var line = plot.Add.ScatterLine(t, db);
+        line.LineWidth = Plotting.Figure.LineWidth;
+        line.Color = Plotting.Figure.Colour(0);
+        line.LegendText = $"squeezing of {c.Mode}";
         var threshold = plot.Add.HorizontalLine(c.ThresholdDb);
-        threshold.Color = Colors.Black;
+        threshold.Color = Plotting.Figure.Ink;
+        threshold.LineWidth = 1;
         threshold.LinePattern = LinePattern.Dotted;
         threshold.LegendText = $"threshold {c.ThresholdDb:G3} dB";
-        Marker(plot, c.PhysicalLifetimeS, Colors.FireBrick, dashed: false, "physical lifetime");
-        Marker(plot, c.ApproximateLifetimeS, Colors.FireBrick, dashed: true, "single-mode t*");
-        Marker(plot, c.ObservableLifetimeS, Colors.DarkGreen, dashed: false, "observable lifetime");
-        if (c.Readout is { } r)
-        {
-            var p = plot.Add.ScatterLine(ms, power.Select(x => x ?? double.NaN).ToArray());
-            p.Axes.YAxis = plot.Axes.Right;
-            p.Color = Colors.DarkGreen.WithAlpha(0.6);
-            p.LinePattern = LinePattern.Dashed;
-            p.LegendText = $"power (n_add {r.AddedNoise:G3}, {r.Shots} shots, {r.Confidence:P0})";
-            plot.Axes.Right.Label.Text = "power (probability squeezing is resolved)";
-            plot.Axes.SetLimitsY(0, 1.05, plot.Axes.Right);
-        }
         double lo = db.Where(double.IsFinite).DefaultIfEmpty(0).Min(), hi = db.Where(double.IsFinite).DefaultIfEmpty(0).Max();
         lo = Math.Min(lo, c.ThresholdDb);
         hi = Math.Max(hi, c.ThresholdDb);
         double pad = 0.08 * Math.Max(hi - lo, 1);
-        plot.Axes.SetLimitsY(lo - pad, hi + pad, plot.Axes.Left);
-        plot.Axes.SetLimitsX(0, ms[^1]);
-        plot.XLabel($"delay after the {c.Reference} (ms)");
+        // The physical lifetime and the single-mode t* often nearly coincide: distinct colours and patterns, and each
+        // marker labelled at its own height, so neither hides the other.
+        Marker(plot, unit, c.PhysicalLifetimeS, Plotting.Figure.Colour(1), LinePattern.Solid, "physical lifetime", hi + pad * 0.2);
+        Marker(plot, unit, c.ApproximateLifetimeS, Plotting.Figure.Colour(5), LinePattern.Dashed, "single-mode t*", hi - pad * 0.9);
+        Marker(plot, unit, c.ObservableLifetimeS, Plotting.Figure.Colour(2), LinePattern.Solid, "observable lifetime", hi - pad * 2);
+        if (c.Readout is { } r)
+        {
+            var p = plot.Add.ScatterLine(t, power.Select(x => x ?? double.NaN).ToArray());
+            p.Axes.YAxis = plot.Axes.Right;
+            p.Color = Plotting.Figure.Colour(2);
+            p.LineWidth = Plotting.Figure.LineWidth;
+            p.LinePattern = LinePattern.DenselyDashed;
+            p.LegendText = $"power (n_add {r.AddedNoise:G3}, {r.Shots} shots, {r.Confidence * 100:G3}%), right axis";
+            plot.Axes.Right.Label.Text = "power (probability the squeezing is resolved)";
+            plot.Axes.SetLimitsY(0, 1.05, plot.Axes.Right);
+            Plotting.Ticks.Linear(plot.Axes.Right);
+        }
+        plot.Axes.SetLimitsY(lo - pad, hi + 2 * pad, plot.Axes.Left);
+        plot.Axes.SetLimitsX(0, t[^1]);
+        Plotting.Ticks.Linear(plot.Axes.Bottom);
+        Plotting.Ticks.Linear(plot.Axes.Left);
+        plot.XLabel($"delay after the {c.Reference} ({unit.Symbol})");
         plot.YLabel("squeezing (dB below zero-point)");
         plot.Title($"{report.Scenario.Name}: squeezing lifetime of {c.Mode}");
-        plot.ShowLegend(Alignment.UpperRight);
+        Plotting.Figure.LegendOutside(plot);
         return plot;
     }
 
-    // A vertical line at a lifetime (s, drawn in ms), when it exists and is positive; dashed for the approximation.
-    private static void Marker(Plot plot, double? lifetimeS, Color color, bool dashed, string label)
+    // A vertical line at a lifetime when it exists and is positive, with its value written beside it at height y.
+    private static void Marker(Plot plot, Plotting.DisplayUnit unit, double? lifetimeS, Color color, LinePattern pattern, string label, double y)
     {
         if (lifetimeS is not (> 0 and var t)) return;
-        var line = plot.Add.VerticalLine(t * 1e3);
+        var line = plot.Add.VerticalLine(unit.From(t));
         line.Color = color;
-        if (dashed) line.LinePattern = LinePattern.Dashed;
-        else line.LineWidth = 2;
-        line.LegendText = $"{label} {t * 1e3:G4} ms";
+        line.LineWidth = Plotting.Figure.LineWidth;
+        line.LinePattern = pattern;
+        line.LegendText = $"{label} {unit.Format(t)}";
+        var text = plot.Add.Text($"{label} {unit.Format(t)}", unit.From(t), y);
+        text.LabelFontColor = color;
+        text.LabelFontSize = Plotting.Figure.FontSize - 1;
+        text.LabelAlignment = Alignment.MiddleLeft;
+        text.OffsetX = 6;
+        text.LabelBackgroundColor = Colors.White.WithAlpha(0.85);
     }
 }

@@ -10,7 +10,8 @@ namespace Decohere.Reports;
 /// <c>estimates.png</c>, and last <c>summary.json</c>, so a summary describes only complete outputs. The shots and
 /// trajectories were streamed during the run by <see cref="RunFiles"/>.
 /// </summary>
-public sealed class RunReport : IReport<RunResult>
+/// <param name="files">The files the run streamed into; with them, iq.png/.svg shows the recorded shots.</param>
+public sealed class RunReport(RunFiles? files = null) : IReport<RunResult>
 {
     /// <inheritdoc/>
     public async Task<IReadOnlyList<string>> WriteAsync(RunResult result, string directory, CancellationToken cancel = default)
@@ -19,21 +20,22 @@ public sealed class RunReport : IReport<RunResult>
         var provenance = result.Provenance;
         string table = Path.Combine(directory, "covariance.parquet");
         string summary = Path.Combine(directory, "summary.json");
-        string png = Path.Combine(directory, "variance.png"), svg = Path.Combine(directory, "variance.svg");
         await CovarianceTable.WriteAsync(result.Evolution, table, provenance, cancel);
         cancel.ThrowIfCancellationRequested();
-        VariancePlot.Save(result.Evolution, png, svg);
-        var paths = new List<string> { table, summary, png, svg };
+        var paths = new List<string> { table, summary };
+        paths.AddRange(VariancePlot.Save(result.Evolution, Path.Combine(directory, "variance")));
         var json = SummaryJson.Build(result.Dynamics, result.Check, provenance);
 
         if (result.Sampling is { } sampling)
         {
             var settings = result.Settings.Sampler ?? SamplerSettings.Default;
-            string estimates = Path.Combine(directory, "estimates.parquet"), estimatesPng = Path.Combine(directory, "estimates.png");
+            string estimates = Path.Combine(directory, "estimates.parquet");
             await EstimatesTable.WriteAsync(estimates, sampling.Sampler, sampling.Estimates, settings.Confidence, provenance, cancel);
             cancel.ThrowIfCancellationRequested();
-            EstimatesPlot.Save(sampling.Sampler, sampling.Estimates, estimatesPng);
-            paths.AddRange([estimates, estimatesPng]);
+            paths.Add(estimates);
+            paths.AddRange(EstimatesPlot.Save(result.Evolution, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "estimates")));
+            if (files?.Histograms is { } histograms)
+                paths.AddRange(IqPlot.Save(histograms, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "iq")));
             json["readout"] = ReadoutSummary.Build(sampling.Sampler, sampling.Estimates, settings);
         }
         // The run's warnings: the check's and the estimates' (an uncertainty-relation violation names its delay).
@@ -54,6 +56,9 @@ public sealed class RunFiles(string directory) : IRunStreams
 {
     private readonly List<string> _paths = [];
 
+    /// <summary>The (i, q) histograms of the shots streamed so far (null before the shots stream opened).</summary>
+    public IqHistograms? Histograms { get; private set; }
+
     /// <summary>The files opened so far (complete once the run returned).</summary>
     public IReadOnlyList<string> Paths => _paths;
 
@@ -64,7 +69,7 @@ public sealed class RunFiles(string directory) : IRunStreams
         string path = Path.Combine(directory, "shots.parquet");
         var table = await ShotsTable.CreateAsync(path, sampler, provenance, cancel);
         _paths.Add(path);
-        return table;
+        return Histograms = new IqHistograms(sampler, table);
     }
 
     /// <inheritdoc/>

@@ -4,7 +4,7 @@ namespace Decohere.Reports;
 
 /// <summary>
 /// Writes a sweep result: <c>sweep.parquet</c> (or a shard's <c>part-K-of-N.parquet</c>) and, for a whole sweep of one
-/// axis, zipped axes or two axes, <c>sweep.png</c>. The finished table replaces the run's chunk files.
+/// axis, zipped axes or two axes, <c>sweep.png</c>/<c>.svg</c>. The finished table replaces the run's chunk files.
 /// </summary>
 public sealed class SweepReport : IReport<SweepResult>
 {
@@ -22,8 +22,8 @@ public sealed class SweepReport : IReport<SweepResult>
         if (result.Shard is null)
         {
             cancel.ThrowIfCancellationRequested();
-            string png = Path.Combine(directory, "sweep.png");
-            if (SweepPlot.Save(result.Description, result.Rows, Name(result), png)) paths.Add(Path.GetFullPath(png));
+            paths.AddRange(SweepPlot.Save(result.Description, result.Rows, Name(result), result.Provenance.ScenarioText, Path.Combine(directory, "sweep"))
+                .Select(Path.GetFullPath));
         }
         return paths;
     }

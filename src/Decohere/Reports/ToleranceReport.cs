@@ -39,9 +39,7 @@ public sealed class ToleranceReport : IReport<ToleranceResult>
         cancel.ThrowIfCancellationRequested();
         SummaryJson.Write(Json(result, metadata), json);
         cancel.ThrowIfCancellationRequested();
-        var plot = Plot(result);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 800));
-        return [json, table, png];
+        return [json, table, .. SavePlot(result, Path.ChangeExtension(png, null))];
     }
 
     /// <summary>The content of tolerance.json.</summary>
@@ -90,48 +88,55 @@ public sealed class ToleranceReport : IReport<ToleranceResult>
         return root;
     }
 
-    private static Plot Plot(ToleranceResult r)
+    /// <summary>
+    /// tolerance.png/.svg: power over added noise × shots (log shots axis when they span decades) with the target-power
+    /// contour; with a calibration uncertainty a second panel shows the Monte Carlo power, where the lab subtracts an
+    /// added noise that is off by that uncertainty.
+    /// </summary>
+    private static string[] SavePlot(ToleranceResult r, string stem)
     {
-        var noise = r.Settings.AddedNoise;
-        var shots = r.Settings.Shots;
-        // Heatmap rows run top to bottom; row 0 holds the largest shot count so that shots grow upwards.
-        var order = shots.Select((s, i) => (s, i)).OrderBy(p => p.s).ToArray();
-        var z = new double[shots.Length, noise.Length];
-        for (int row = 0; row < order.Length; row++)
-            for (int col = 0; col < noise.Length; col++)
-                z[order.Length - 1 - row, col] = r.Points[col * shots.Length + order[row].i].Power;
-        var plot = new Plot();
-        var heat = plot.Add.Heatmap(z);
-        heat.Colormap = new ScottPlot.Colormaps.Viridis();
-        heat.ManualRange = new ScottPlot.Range(0, 1);
-        double dx = noise.Length > 1 ? (noise[^1] - noise[0]) / (noise.Length - 1) : 0.5;
-        heat.Rectangle = new CoordinateRect(noise[0] - dx / 2, noise[^1] + dx / 2, -0.5, order.Length - 0.5);
-        plot.Add.ColorBar(heat).Label = "power";
+        var panels = new List<Plot> { Panel(r, p => p.Power, "", bar: r.Settings.CalibrationUncertainty is null) };
+        if (r.Settings.CalibrationUncertainty is { } sigma)
+            panels.Add(Panel(r, p => p.PowerMc ?? double.NaN,
+                $"Monte Carlo power, calibration error σ = {Plotting.Ticks.Label(sigma)} quanta ({r.Settings.Draws} draws)", bar: true));
+        var unit = Plotting.DisplayUnits.For(Dimension.Time, [r.Settings.DelayS]);
+        panels[0].Title($"{r.Scenario.Name}: {(panels.Count > 1 ? "closed-form " : "")}power to resolve {r.SqueezingDb:F2} dB of squeezing of {r.Mode}\n" +
+                        $"{unit.Format(r.Settings.DelayS)} after the {r.Reference}; {r.Settings.Confidence * 100:G3}% upper bound below {r.Settings.ThresholdDb:G3} dB");
+        var multiplot = new Multiplot();
+        multiplot.Reset(panels[0]);
+        foreach (var p in panels.Skip(1)) multiplot.AddPlot(p);
+        multiplot.Layout = new ScottPlot.MultiplotLayouts.Grid(1, panels.Count);
+        return Plotting.Figure.Save(multiplot, stem, panels.Count == 1 ? 1200 : 2000, 760);
+    }
 
-        // The target-power curve: the largest tolerable added noise at each shot count.
-        var xs = new List<double>();
-        var ys = new List<double>();
-        for (int row = 0; row < order.Length; row++)
-            if (r.LargestAddedNoise[order[row].i].AddedNoise is { } n && double.IsFinite(n)) { xs.Add(n); ys.Add(row); }
-        if (xs.Count > 0)
+    private static Plot Panel(ToleranceResult r, Func<TolerancePoint, double> power, string name, bool bar)
+    {
+        var noise = r.Settings.AddedNoise.ToArray();
+        var shots = r.Settings.Shots.Select((s, i) => (s, i)).OrderBy(p => p.s).ToArray();
+        bool log = Plotting.Ticks.SpansDecades(shots.Select(p => (double)p.s));
+        double[] y = [.. shots.Select(p => log ? Math.Log10(p.s) : p.s)];
+        var z = new double[noise.Length, shots.Length];
+        for (int i = 0; i < noise.Length; i++)
+            for (int j = 0; j < shots.Length; j++)
+                z[i, j] = power(r.Points[i * r.Settings.Shots.Length + shots[j].i]);
+        var plot = Plotting.Figure.New();
+        Plotting.HeatMap.Add(plot, noise, y, z, "power (probability the squeezing is resolved)", new ScottPlot.Range(0, 1), bar);
+        Plotting.HeatMap.Contour(plot, noise, y, z, r.Settings.TargetPower, $"power = {r.Settings.TargetPower:G3} (target)");
+        if (r.ScenarioReadout is { } own)
         {
-            var curve = plot.Add.ScatterLine(xs.ToArray(), ys.ToArray());
-            curve.Color = Colors.White;
-            curve.LineWidth = 3;
-            curve.MarkerSize = 8;
-            curve.MarkerShape = MarkerShape.FilledCircle;
-            curve.LegendText = $"power = {r.Settings.TargetPower:G3} (largest tolerable added noise)";
-            plot.ShowLegend(Alignment.UpperRight);
+            var mark = plot.Add.ScatterPoints(new[] { own.Chain.AddedNoise }, new[] { log ? Math.Log10(own.Shots) : own.Shots });
+            mark.Color = Plotting.Figure.Colour(1);
+            mark.MarkerSize = 14;
+            mark.MarkerShape = MarkerShape.FilledDiamond;
+            mark.LegendText = $"scenario's readout ({own.Shots} shots)";
         }
-        var ticks = new ScottPlot.TickGenerators.NumericManual();
-        for (int row = 0; row < order.Length; row++) ticks.AddMajor(row, order[row].s.ToString(CultureInfo.InvariantCulture));
-        plot.Axes.Left.TickGenerator = ticks;
-        plot.Axes.SetLimitsX(noise[0] - dx / 2, noise[^1] + dx / 2);
-        plot.Axes.SetLimitsY(-0.5, order.Length - 0.5);
-        plot.XLabel("added noise (quanta per quadrature, input-referred)");
-        plot.YLabel("shots");
-        plot.Title($"{r.Scenario.Name}: power to resolve {r.SqueezingDb:F2} dB of squeezing of {r.Mode} at {r.Settings.DelayS * 1e3:G4} ms " +
-                   $"({r.Settings.Confidence:P0} upper bound below {r.Settings.ThresholdDb:G3} dB)");
+        if (log) Plotting.Ticks.Log(plot.Axes.Left, y[0] - 0.5 * (y.Length > 1 ? y[1] - y[0] : 1), y[^1] + 0.5 * (y.Length > 1 ? y[^1] - y[^2] : 1));
+        else Plotting.Ticks.Linear(plot.Axes.Left);
+        Plotting.Ticks.Linear(plot.Axes.Bottom);
+        plot.XLabel("added noise n_add (quanta, input-referred)");
+        plot.YLabel("shots per delay");
+        plot.Title(name);
+        plot.ShowLegend(Edge.Bottom);
         return plot;
     }
 }

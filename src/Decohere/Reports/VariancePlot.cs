@@ -1,82 +1,88 @@
 using ScottPlot;
-using System.Globalization;
+using Decohere.Core;
 using Decohere.Engine;
-using Decohere.IO;
+using Decohere.Reports.Plotting;
 using Decohere.Scenarios;
 
 namespace Decohere.Reports;
 
-/// <summary>variance.png/.svg: var_min and var_max of each mechanical mode against time on a log axis, zero-point line, named stages shaded.</summary>
+/// <summary>
+/// variance.png/.svg: var_min and var_max of each mechanical mode against time on a log axis, zero-point line, named
+/// stages shaded. Long tables are drawn at screen resolution (<see cref="Decimation"/>).
+/// </summary>
 public static class VariancePlot
 {
-    /// <summary>Renders the plot to PNG and SVG, each written atomically.</summary>
-    public static void Save(Evolution evolution, string pngPath, string? svgPath = null)
-    {
-        AtomicFile.Write(pngPath, tmp => Build(evolution, patterns: true).SavePng(tmp, 1200, 700));
-        // Skia's SVG backend cannot draw dash patterns (it prints a complaint instead), so the SVG uses widths.
-        if (svgPath is not null) AtomicFile.Write(svgPath, tmp => Build(evolution, patterns: false).SaveSvg(tmp, 1200, 700));
-    }
+    /// <summary>Pixel columns of the data area the series are reduced to (about the figure's width).</summary>
+    public const int Columns = Figure.Width;
 
-    private static Plot Build(Evolution evolution, bool patterns)
+    /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg, each written atomically; returns the paths.</summary>
+    public static string[] Save(Evolution evolution, string stem) => Figure.Save(Build(evolution), stem);
+
+    /// <summary>The figure (exposed for benchmarks).</summary>
+    public static Plot Build(Evolution evolution)
     {
         var scenario = evolution.Dynamics.Scenario;
-        var plot = new Plot();
-        double[] tms = evolution.Times.Select(t => t * 1e3).ToArray();
-        double lo = Math.Log10(0.5), hi = Math.Log10(0.5);
-        var palette = new ScottPlot.Palettes.Category10();
+        var plot = Figure.New();
+        var unit = DisplayUnits.For(Dimension.Time, [scenario.TotalDurationS]);
+        double[] t = [.. evolution.Times.Select(unit.From)];
+        double lo = Math.Log10(0.5), hi = lo;
         int colour = 0;
-        for (int j = 0; j < evolution.ModeNames.Length; j++)
+        var mechanical = evolution.ModeNames.Select((n, j) => (n, j)).Where(p => scenario.ModeNamed(p.n).Kind == ModeKind.Mechanical).ToArray();
+        foreach (var (name, j) in mechanical)
         {
-            if (scenario.ModeNamed(evolution.ModeNames[j]).Kind != ModeKind.Mechanical) continue;
-            var min = new double[tms.Length];
-            var max = new double[tms.Length];
-            for (int k = 0; k < tms.Length; k++)
+            var min = new double[t.Length];
+            var max = new double[t.Length];
+            for (int k = 0; k < t.Length; k++)
             {
                 min[k] = Math.Log10(Math.Max(evolution.Moments[k, j].VarMin, 1e-12));
                 max[k] = Math.Log10(Math.Max(evolution.Moments[k, j].VarMax, 1e-12));
             }
             lo = Math.Min(lo, min.Min());
             hi = Math.Max(hi, max.Max());
-            var color = palette.GetColor(colour++);
-            var a = plot.Add.ScatterLine(tms, min);
+            var color = Figure.Colour(colour++);
+            string who = mechanical.Length > 1 ? name + " " : "";
+            var (xa, ya) = Decimation.MinMax(t, min, Columns);
+            var a = plot.Add.ScatterLine(xa, ya);
             a.Color = color;
-            a.LineWidth = 2;
-            a.LegendText = $"{evolution.ModeNames[j]} var_min";
-            var b = plot.Add.ScatterLine(tms, max);
+            a.LineWidth = Figure.LineWidth;
+            a.LegendText = $"{who}var_min (squeezed)";
+            var (xb, yb) = Decimation.MinMax(t, max, Columns);
+            var b = plot.Add.ScatterLine(xb, yb);
             b.Color = color;
-            b.LineWidth = patterns ? 2 : 1;
-            b.LinePattern = patterns ? LinePattern.Dashed : LinePattern.Solid;
-            b.LegendText = $"{evolution.ModeNames[j]} var_max";
+            b.LineWidth = Figure.LineWidth;
+            b.LinePattern = LinePattern.Dashed;
+            b.LegendText = $"{who}var_max (anti-squeezed)";
         }
-        double pad = 0.08 * Math.Max(hi - lo, 0.5);
+        double pad = 0.06 * Math.Max(hi - lo, 0.5);
         for (int i = 0; i < scenario.Stages.Length; i++)
         {
-            double start = evolution.Dynamics.StageStarts[i] * 1e3, end = start + scenario.Stages[i].DurationS * 1e3;
+            double start = unit.From(evolution.Dynamics.StageStarts[i]), end = start + unit.From(scenario.Stages[i].DurationS);
             var span = plot.Add.HorizontalSpan(start, end);
-            span.FillStyle.Color = (i % 2 == 0 ? Colors.SteelBlue : Colors.Orange).WithAlpha(0.08);
+            span.FillStyle.Color = (i % 2 == 0 ? Figure.Colour(0) : Figure.Colour(3)).WithAlpha(0.07);
             span.LineStyle.Width = 0;
-            var label = plot.Add.Text(scenario.Stages[i].Name, start, hi + pad);
-            label.LabelFontSize = 13;
+            var label = plot.Add.Text(scenario.Stages[i].Name, start, hi + 2 * pad);
+            label.LabelFontSize = Figure.FontSize - 1;
+            label.LabelFontColor = Figure.Ink;
             label.LabelAlignment = Alignment.UpperLeft;
+            label.OffsetX = 4;
+            // Neighbouring names one line apart, so short stages do not print over each other.
+            label.OffsetY = i % 2 * (Figure.FontSize + 6);
         }
         var zero = plot.Add.HorizontalLine(Math.Log10(0.5));
-        zero.Color = Colors.Black;
-        zero.LinePattern = patterns ? LinePattern.Dotted : LinePattern.Solid;
+        zero.Color = Figure.Ink;
+        zero.LineWidth = 1;
+        zero.LinePattern = LinePattern.Dotted;
         zero.LegendText = "zero-point (0.5)";
 
-        var ticks = new ScottPlot.TickGenerators.NumericAutomatic
-        {
-            MinorTickGenerator = new ScottPlot.TickGenerators.LogMinorTickGenerator(),
-            IntegerTicksOnly = true,
-            LabelFormatter = y => Math.Pow(10, y).ToString("G3", CultureInfo.InvariantCulture),
-        };
-        plot.Axes.Left.TickGenerator = ticks;
-        plot.Axes.SetLimitsY(lo - pad, hi + 2 * pad);
-        plot.Axes.SetLimitsX(0, scenario.TotalDurationS * 1e3);
-        plot.XLabel("time (ms)");
-        plot.YLabel("quadrature variance (quanta, log scale)");
+        double bottom = lo - pad, top = hi + 2.5 * pad;
+        Ticks.Log(plot.Axes.Left, bottom, top);
+        Ticks.Linear(plot.Axes.Bottom);
+        plot.Axes.SetLimitsY(bottom, top);
+        plot.Axes.SetLimitsX(0, unit.From(scenario.TotalDurationS));
+        plot.XLabel($"time ({unit.Symbol})");
+        plot.YLabel("quadrature variance (quanta)");
         plot.Title($"{scenario.Name}: squeezed and anti-squeezed variance");
-        plot.ShowLegend(Alignment.LowerRight);
+        Figure.LegendOutside(plot);
         return plot;
     }
 }

@@ -59,6 +59,14 @@ public class FitCommandTests
             Assert.Equal(18 - 2, json["goodness_of_fit"]!["degrees_of_freedom"]!.GetValue<int>());
             Assert.Equal(truth.SourceHash.Length, json["scenario_sha256"]!.GetValue<string>().Length);
             Assert.True(new FileInfo(Path.Combine(outDir, "fit.png")).Length > 10_000);
+            // The results table for notebooks and papers: the same value to four significant digits, with its unit, and
+            // LaTeX that needs nothing beyond booktabs (plain ASCII, balanced math shifts).
+            string md = await File.ReadAllTextAsync(Path.Combine(outDir, "fit.md"));
+            Assert.Contains($"| bath occupancy n_th of drum | {value.ToString("G4", System.Globalization.CultureInfo.InvariantCulture)} | [", md);
+            string tex = await File.ReadAllTextAsync(Path.Combine(outDir, "fit.tex"));
+            Assert.Contains("\\begin{tabular}", tex);
+            Assert.All(tex, c => Assert.True(c < 128, $"non-ASCII '{c}' in fit.tex"));
+            Assert.Equal(0, tex.Count(c => c == '$') % 2);
 
             // fit.parquet read back by DuckDB (an independent Parquet reader): one row per delay.
             using var connection = new DuckDBConnection("DataSource=:memory:");
