@@ -26,6 +26,9 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     /// <summary><c>fit-noise</c>.</summary>
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json"]);
 
+    /// <summary><c>spectrum</c>.</summary>
+    public static OutputSet Spectrum { get; } = new("spectrum", ["spectrum.json", "spectrum.parquet", "spectrum.png"]);
+
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png"]);
 
