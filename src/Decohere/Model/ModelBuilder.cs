@@ -13,6 +13,25 @@ public static class ModelBuilder
         ? scenario.Modes
         : [.. scenario.Modes.Where(m => m.Kind == ModeKind.Mechanical)];
 
+    /// <summary>
+    /// The settled occupancy of a mode's bath in a stage: the stage's override or the mode's own bath, plus, for a cavity
+    /// with a heating law, the extra quanta at the summed cooperativity C = Σ 4G²/(κγ) of the stage's tones on it.
+    /// </summary>
+    public static double BathOccupancy(Scenario scenario, Mode mode, Stage stage)
+    {
+        var bath = scenario.BathOf(mode, stage);
+        if (bath.Heating is not { } law) return bath.Occupancy;
+        return bath.Occupancy + law.ExcessAt(Cooperativity(scenario, mode, stage));
+    }
+
+    /// <summary>Summed cooperativity C = Σ 4G²/(κγ) of the stage's tones on a cavity (κ the cavity's, γ each tone's mechanical mode's).</summary>
+    public static double Cooperativity(Scenario scenario, Mode cavity, Stage stage) =>
+        stage.Tones.Where(t => t.Cavity == cavity.Name).Sum(t =>
+        {
+            double g = Physics.Angular(t.CouplingHz);
+            return 4 * g * g / (cavity.DecayRate * scenario.ModeNamed(t.Mechanical).DecayRate);
+        });
+
     /// <summary>The drift and diffusion of a stage.</summary>
     public static LinearModel Build(Scenario scenario, Stage stage)
     {
@@ -23,7 +42,7 @@ public static class ModelBuilder
         foreach (var mode in modes)
         {
             int j = index[mode.Name];
-            system.AddDamping(j, mode.DecayRate, scenario.BathOf(mode, stage).Occupancy);
+            system.AddDamping(j, mode.DecayRate, BathOccupancy(scenario, mode, stage));
             if (stage.DetuningsHz.TryGetValue(mode.Name, out double delta))
                 system.AddDetuning(j, Physics.Angular(delta));
         }
@@ -62,7 +81,7 @@ public static class ModelBuilder
         {
             var cavity = scenario.ModeNamed(group.Key);
             double kappa = cavity.DecayRate;
-            double nc = scenario.BathOf(cavity, stage).Occupancy;
+            double nc = BathOccupancy(scenario, cavity, stage);
             var terms = group.Select(t =>
             {
                 double g = 2 * Physics.Angular(t.CouplingHz) / Math.Sqrt(kappa);

@@ -139,7 +139,7 @@ public static class SpectrumAnalysis
             for (int c = 0; c < cavities.Length; c++)
             {
                 var (mode, j) = cavities[c];
-                double nc = scenario.BathOf(mode, stage).Occupancy;
+                double nc = ModelBuilder.BathOccupancy(scenario, mode, stage);
                 FillOutput(outputs[c], k, LinearResponse.Output(r, j, mode.DecayRate, nc, settings.Efficiency),
                     LinearResponse.Output(mirror, j, mode.DecayRate, nc, settings.Efficiency));
             }
@@ -235,7 +235,7 @@ public static class SpectrumAnalysis
         var vOff = SteadyState(off, $"{stage.Name}' without the tones on cavity '{tone.Cavity}");
         int c = modes.Select(m => m.Name).ToList().IndexOf(tone.Cavity), m = modes.Select(x => x.Name).ToList().IndexOf(tone.Mechanical);
         var cavity = modes[c];
-        double kappa = cavity.DecayRate, nc = scenario.BathOf(cavity, stage).Occupancy;
+        double kappa = cavity.DecayRate, nc = ModelBuilder.BathOccupancy(scenario, cavity, probeStage);
         double Occupancy(MathNet.Numerics.LinearAlgebra.Matrix<double> v, int j) => Physics.ModeOccupancy(v[2 * j, 2 * j], v[2 * j + 1, 2 * j + 1], 0, 0);
         double power = settings.Efficiency * kappa * (Occupancy(vProbe, c) - Occupancy(vOff, c));
         double g = Physics.Angular(tone.CouplingHz);
