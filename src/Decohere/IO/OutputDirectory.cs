@@ -32,6 +32,9 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     /// <summary><c>cooling</c>.</summary>
     public static OutputSet Cooling { get; } = new("cooling", ["cooling.json", "cooling.parquet", "cooling.png"]);
 
+    /// <summary><c>ringdown</c>.</summary>
+    public static OutputSet Ringdown { get; } = new("ringdown", ["ringdown.json", "ringdown.parquet", "ringdown.png"]);
+
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png"]);
 
