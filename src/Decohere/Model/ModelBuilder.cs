@@ -1,5 +1,6 @@
 using System.Collections.Immutable;
 using System.Numerics;
+using MathNet.Numerics.LinearAlgebra;
 using Decohere.Core;
 using Decohere.Scenarios;
 
@@ -31,6 +32,41 @@ public static class ModelBuilder
             double g = Physics.Angular(t.CouplingHz);
             return 4 * g * g / (cavity.DecayRate * scenario.ModeNamed(t.Mechanical).DecayRate);
         });
+
+    /// <summary>
+    /// The relaxing parts of a stage's diffusion: D(t) = D + Σ_k e^{−(t − t_k)/τ_k} D_k for every transient bath active in the
+    /// stage (its from_stage starts at or before the stage). D is affine in each bath occupancy, so D_k is the diffusion with
+    /// that bath raised by its excess minus the settled one, for any model (full or effective).
+    /// </summary>
+    /// <param name="scenario">The scenario.</param>
+    /// <param name="stage">The stage (its bath overrides decide the baths).</param>
+    /// <param name="stageStartS">Start of the stage (s): a stage override's default reference, and the test of activity.</param>
+    public static ImmutableArray<BathTransient> Transients(Scenario scenario, Stage stage, double stageStartS)
+    {
+        var result = ImmutableArray.CreateBuilder<BathTransient>();
+        LinearModel? settled = null;
+        foreach (var mode in scenario.Modes)
+        {
+            var bath = scenario.BathOf(mode, stage);
+            if (!bath.IsTransient) continue;
+            double start = bath.FromStage is { } from ? scenario.StageStarts[scenario.StageIndex(from)]
+                : stage.BathOverrides.ContainsKey(mode.Name) ? stageStartS : 0;
+            if (start > stageStartS) continue;
+            settled ??= Build(scenario, stage);
+            var raised = stage with { BathOverrides = stage.BathOverrides.SetItem(mode.Name, bath with { Occupancy = bath.Occupancy + bath.Excess, Excess = 0 }) };
+            var part = Build(scenario, raised).Diffusion - settled.Diffusion;
+            if (part.Enumerate().Any(x => x != 0)) result.Add(new BathTransient(part, bath.RelaxTimeS, start));
+        }
+        return result.ToImmutable();
+    }
+
+    /// <summary>The diffusion of a stage at time t (s from the start of the first stage): D + Σ_k e^{−(t − t_k)/τ_k} D_k.</summary>
+    public static Matrix<double> DiffusionAt(Scenario scenario, Stage stage, double stageStartS, double t)
+    {
+        var d = Build(scenario, stage).Diffusion.Clone();
+        foreach (var part in Transients(scenario, stage, stageStartS)) d += part.Diffusion * part.WeightAt(t);
+        return d;
+    }
 
     /// <summary>The drift and diffusion of a stage.</summary>
     public static LinearModel Build(Scenario scenario, Stage stage)
@@ -116,4 +152,14 @@ public static class ModelBuilder
             }
         }
     }
+}
+
+/// <summary>A relaxing part of the diffusion: e^{−(t − StartS)/RelaxTimeS}·Diffusion for t ≥ StartS.</summary>
+/// <param name="Diffusion">D_k, the diffusion of the bath's excess at its full size.</param>
+/// <param name="RelaxTimeS">Relaxation time τ_k (s).</param>
+/// <param name="StartS">When the excess starts relaxing (s from the start of the first stage).</param>
+public sealed record BathTransient(Matrix<double> Diffusion, double RelaxTimeS, double StartS)
+{
+    /// <summary>e^{−(t − StartS)/τ} (t ≥ StartS; the transient is only built for stages that start after it began).</summary>
+    public double WeightAt(double t) => Math.Exp(-Math.Max(t - StartS, 0) / RelaxTimeS);
 }

@@ -20,6 +20,18 @@ public sealed record Bath(double Occupancy, double? TemperatureK = null)
 {
     /// <summary>A cavity bath that grows with the drive: n_c = occupancy + law(C), C the summed cooperativity of the tones on the cavity.</summary>
     public HeatingLaw? Heating { get; init; }
+
+    /// <summary>Transient excess occupancy: n(t) = occupancy + Excess·e^{−(t − t_s)/RelaxTimeS} from the start t_s of <see cref="FromStage"/>.</summary>
+    public double Excess { get; init; }
+
+    /// <summary>Relaxation time τ of the excess (s); 0 when there is none.</summary>
+    public double RelaxTimeS { get; init; }
+
+    /// <summary>The stage whose start the excess relaxes from; null: the first stage (or, for a stage's bath override, that stage).</summary>
+    public string? FromStage { get; init; }
+
+    /// <summary>True when the bath relaxes in time.</summary>
+    public bool IsTransient => Excess != 0 && RelaxTimeS > 0;
 }
 
 /// <summary>

@@ -171,6 +171,8 @@ public static class SpectrumAnalysis
         var asymmetries = Asymmetries(sidebands.ToImmutable(), modes, steady);
         if (Math.Abs(settings.Efficiency - 1) > 0 && cavities.Length > 0)
             warnings.Add($"output spectra include a transmission η = {settings.Efficiency:G4} after each cavity port (vacuum enters the loss)");
+        if (scenario.Modes.Any(m => scenario.BathOf(m, stage).IsTransient))
+            warnings.Add("a relaxing bath is not stationary: the spectra use its settled occupancy");
         return new SpectrumResult(scenario, settings, stage.Name, freqs, spectra.ToImmutable(), summaries.ToImmutable(), sidebands.ToImmutable(),
             asymmetries, Provenance.For(scenario), [.. warnings], WorkStatistics.Since(start, count));
     }
