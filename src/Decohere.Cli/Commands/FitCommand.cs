@@ -42,11 +42,16 @@ public static class FitCommand
         var mode = new Option<string?>("--mode") { Description = "With a mode column in shot data: the mode's rows to keep (default: the readout mode)." };
         var starts = new Option<int>("--starts") { Description = "Optimiser starts (default 4).", DefaultValueFactory = _ => 4 };
         var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
+        var prior = new Option<string[]>("--prior")
+        {
+            Description = "Prior on a parameter path: PATH=MEAN±SD (Gaussian, also MEAN+-SD) or PATH=LOW..HIGH (bounded), in the path's units; frees the path. Repeatable.",
+            AllowMultipleArgumentsPerToken = false,
+        };
         var output = Cli.OutOption();
         var quiet = Cli.QuietOption();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, output, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -58,6 +63,7 @@ public static class FitCommand
                 Free = [.. (parse.GetValue(free) ?? []).SelectMany(f => f.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries))],
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
+                Priors = [.. (parse.GetValue(prior) ?? []).Select(text => FitPrior.Parse(text, s))],
             };
             var result = FitAnalysis.Solve(s, settings, fitData);
             cancel.ThrowIfCancellationRequested();
@@ -79,7 +85,7 @@ public static class FitCommand
     internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
         ["free parameters"] = "--free", ["starts"] = "--starts", ["column mapping"] = "--column", ["delay unit"] = "--delay-unit",
-        ["data file"] = "--data",
+        ["data file"] = "--data", ["prior"] = "--prior",
     };
 
     /// <summary>The terminal table: each free parameter and derived quantity with its error and interval.</summary>

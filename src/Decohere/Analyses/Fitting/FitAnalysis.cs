@@ -35,8 +35,11 @@ public static class FitAnalysis
     {
         settings.Validate();
         var clock = Stopwatch.StartNew();
-        var free = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
-        if (free.Count == 0) throw new InputException("free parameters: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
+        var listed = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
+        var free = listed.Concat(settings.Priors.Select(q => q.Path).Where(q => !listed.Contains(q))).ToArray();
+        var repeatedPrior = settings.Priors.GroupBy(q => q.Path).FirstOrDefault(g => g.Count() > 1);
+        if (repeatedPrior is not null) throw new InputException($"prior: '{repeatedPrior.Key}' has two priors");
+        if (free.Length == 0) throw new InputException("free parameters: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
         var paths = free.Select(f => ParameterPath.Parse(f, scenario)).ToImmutableArray();
         var repeated = paths.GroupBy(p => p.Text).FirstOrDefault(g => g.Count() > 1);
         if (repeated is not null) throw new InputException($"free parameters: '{repeated.Key}' is listed twice");
@@ -48,9 +51,15 @@ public static class FitAnalysis
         }
         var model = new ReadoutModel(scenario, paths);
         var delays = data.Delays.Select(d => d.DelayS).ToArray();
-        double Objective(double[] x) => DataLikelihood.Total(data, model.Predict(x, delays));
+        var priors = paths.Select(p => settings.Priors.FirstOrDefault(q => q.Path == p.Text)).ToArray();
+        double Objective(double[] x)
+        {
+            double prior = 0;
+            for (int k = 0; k < x.Length; k++) if (priors[k] is { } q) prior += q.Minus2LogPrior(x[k]);
+            return double.IsFinite(prior) ? DataLikelihood.Total(data, model.Predict(x, delays)) + prior : double.PositiveInfinity;
+        }
 
-        var parameters = paths.Select(p => new FitParameter(p.Text, Start(p, scenario),
+        var parameters = paths.Select((p, k) => new FitParameter(p.Text, Start(p, scenario, priors[k]),
             p.MustBePositive ? ParameterDomain.Positive : p.IsSigned ? ParameterDomain.Real : ParameterDomain.NonNegative)).ToArray();
         var ml = MaximumLikelihood.Fit(Objective, parameters, new MaximumLikelihoodSettings
         {
@@ -86,7 +95,7 @@ public static class FitAnalysis
             derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.FittedQuantity : d)];
         }
 
-        int dof = DataLikelihood.Terms(data) - p;
+        int dof = DataLikelihood.Terms(data) + settings.Priors.Count(q => q.IsGaussian) - p;
         double pValue = dof > 0 ? ChiSquared.CDF(dof, ml.Minimum) is var c ? 1 - c : double.NaN : double.NaN;
         var goodness = new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue);
         if (dof > 0 && pValue < 1e-3)
@@ -106,8 +115,11 @@ public static class FitAnalysis
             settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
     }
 
-    private static double Start(ParameterPath path, Scenario scenario)
+    private static double Start(ParameterPath path, Scenario scenario, FitPrior? prior = null)
     {
+        // A start the prior forbids would leave the optimiser on an infinite plateau.
+        if (prior is { IsGaussian: false } && prior.Minus2LogPrior(path.Get(scenario)) > 0)
+            return prior.Low > 0 ? Math.Sqrt(prior.Low!.Value * prior.High!.Value) : 0.5 * (prior.Low!.Value + prior.High!.Value);
         double v = path.Get(scenario);
         if (v > 0 && double.IsFinite(v)) return v;
         return path.Dimension switch
