@@ -19,10 +19,11 @@ public sealed class CoolingReport : IReport<CoolingResult>
     ];
 
     /// <inheritdoc/>
-    public async Task<IReadOnlyList<string>> WriteAsync(CoolingResult result, string directory, CancellationToken cancel = default)
+    public Task<IReadOnlyList<string>> WriteAsync(CoolingResult result, string directory, CancellationToken cancel = default) =>
+        SpectrumReport.WriteFiles(directory, "cooling", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
+
+    private static Task WriteTable(CoolingResult result, string path, CancellationToken cancel)
     {
-        Directory.CreateDirectory(directory);
-        string table = Path.Combine(directory, "cooling.parquet"), json = Path.Combine(directory, "cooling.json"), png = Path.Combine(directory, "cooling.png");
         var rows = result.Rows;
         double[] Col(Func<CoolingRow, double> f) => [.. rows.Select(f)];
         var keys = new Dictionary<string, string>(result.Provenance.ToKeyValues())
@@ -30,18 +31,12 @@ public sealed class CoolingReport : IReport<CoolingResult>
             ["decohere.cooling.stage"] = result.Stage,
             ["decohere.cooling.tone"] = result.Tone.ToString(CultureInfo.InvariantCulture),
         };
-        await ParquetTable.WriteAsync(table, Columns,
+        return ParquetTable.WriteAsync(path, Columns,
         [
             Col(r => r.Cooperativity), Col(r => r.CouplingHz), Col(r => r.CavityOccupancy), Col(r => r.CavityHeating), Col(r => r.PhaseNoise),
             Col(r => r.Occupancy), Col(r => r.Thermal), Col(r => r.CavityBase), Col(r => r.HeatingShare), Col(r => r.PhaseNoiseShare),
             Col(r => r.Quantum), rows.Select(r => r.Limit).ToArray(),
         ], keys, cancel: cancel);
-        cancel.ThrowIfCancellationRequested();
-        SummaryJson.Write(Json(result), json);
-        cancel.ThrowIfCancellationRequested();
-        var plot = Plot(result);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 700));
-        return [json, table, png];
     }
 
     private static JsonObject RowJson(CoolingRow r) => new()

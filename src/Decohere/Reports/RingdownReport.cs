@@ -14,23 +14,17 @@ public sealed class RingdownReport : IReport<RingdownResult>
         [ColumnSpec.Double("time_s"), ColumnSpec.Double("observed"), ColumnSpec.Double("model"), ColumnSpec.Double("residual")];
 
     /// <inheritdoc/>
-    public async Task<IReadOnlyList<string>> WriteAsync(RingdownResult result, string directory, CancellationToken cancel = default)
-    {
-        Directory.CreateDirectory(directory);
-        string table = Path.Combine(directory, "ringdown.parquet"), json = Path.Combine(directory, "ringdown.json"), png = Path.Combine(directory, "ringdown.png");
-        var keys = new Dictionary<string, string>(result.Provenance.ToKeyValues())
+    public Task<IReadOnlyList<string>> WriteAsync(RingdownResult result, string directory, CancellationToken cancel = default) =>
+        SpectrumReport.WriteFiles(directory, "ringdown", path =>
         {
-            ["decohere.ringdown.kind"] = Kind(result.Data.Kind),
-            ["decohere.ringdown.residual"] = result.Data.Kind == RingdownKind.Energy ? "(observed − model)/model (unit variance for an exponential)" : "(observed − model)/σ",
-        };
-        await ParquetTable.WriteAsync(table, Columns, [result.Data.TimesS.ToArray(), result.Data.Values.ToArray(), result.Model.ToArray(), result.Residuals.ToArray()], keys, cancel: cancel);
-        cancel.ThrowIfCancellationRequested();
-        SummaryJson.Write(Json(result), json);
-        cancel.ThrowIfCancellationRequested();
-        var plot = Plot(result);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 700));
-        return [json, table, png];
-    }
+            var keys = new Dictionary<string, string>(result.Provenance.ToKeyValues())
+            {
+                ["decohere.ringdown.kind"] = Kind(result.Data.Kind),
+                ["decohere.ringdown.residual"] = result.Data.Kind == RingdownKind.Energy ? "(observed − model)/model (unit variance for an exponential)" : "(observed − model)/σ",
+            };
+            return ParquetTable.WriteAsync(path, Columns,
+                [result.Data.TimesS.ToArray(), result.Data.Values.ToArray(), result.Model.ToArray(), result.Residuals.ToArray()], keys, cancel: cancel);
+        }, () => Json(result), () => Plot(result), cancel);
 
     private static string Kind(RingdownKind kind) => kind == RingdownKind.Energy ? "energy" : "amplitude";
 

@@ -30,10 +30,11 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
     };
 
     /// <inheritdoc/>
-    public async Task<IReadOnlyList<string>> WriteAsync(SpectrumResult result, string directory, CancellationToken cancel = default)
+    public Task<IReadOnlyList<string>> WriteAsync(SpectrumResult result, string directory, CancellationToken cancel = default) =>
+        WriteFiles(directory, "spectrum", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
+
+    private static async Task WriteTable(SpectrumResult result, string path, CancellationToken cancel)
     {
-        Directory.CreateDirectory(directory);
-        string table = Path.Combine(directory, "spectrum.parquet"), json = Path.Combine(directory, "spectrum.json"), png = Path.Combine(directory, "spectrum.png");
         int count = result.FrequenciesHz.Length, rows = count * result.Spectra.Length;
         var f = new double[rows];
         var mode = new string[rows];
@@ -62,13 +63,25 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
             ["decohere.spectrum.units"] = "field=mode: quanta/Hz (∫ s_xx df = var_x); field=output or probe:K: quanta (photons per second per Hz, vacuum ½ in s_xx)",
             ["decohere.spectrum.efficiency"] = result.Settings.Efficiency.ToString("R", CultureInfo.InvariantCulture),
         };
-        await ParquetTable.WriteAsync(table, Columns, [f, mode, field, offset, sxx, spp, normal, anti], keys, cancel: cancel);
+        await ParquetTable.WriteAsync(path, Columns, [f, mode, field, offset, sxx, spp, normal, anti], keys, cancel: cancel);
+    }
+
+    /// <summary>
+    /// Writes the three files of a lab analysis, STEM.parquet (by <paramref name="table"/>), STEM.json and STEM.png, each
+    /// atomically and in that order (the summary after the table it describes); returns the paths json, table, png.
+    /// </summary>
+    internal static async Task<IReadOnlyList<string>> WriteFiles(string directory, string stem, Func<string, Task> table, Func<JsonObject> json,
+        Func<Plot> plot, CancellationToken cancel)
+    {
+        Directory.CreateDirectory(directory);
+        string parquet = Path.Combine(directory, stem + ".parquet"), summary = Path.Combine(directory, stem + ".json"), png = Path.Combine(directory, stem + ".png");
+        await table(parquet);
         cancel.ThrowIfCancellationRequested();
-        SummaryJson.Write(Json(result), json);
+        SummaryJson.Write(json(), summary);
         cancel.ThrowIfCancellationRequested();
-        var plot = Plot(result);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 700));
-        return [json, table, png];
+        var figure = plot();
+        AtomicFile.Write(png, tmp => figure.SavePng(tmp, 1200, 700));
+        return [summary, parquet, png];
     }
 
     /// <summary>The content of spectrum.json.</summary>
