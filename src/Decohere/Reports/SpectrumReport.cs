@@ -127,20 +127,16 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
         return root;
     }
 
-    /// <summary>The unit an offset range reads best in: (scale in Hz, name).</summary>
-    public static (double Scale, string Unit) FrequencyUnit(double spanHz) =>
-        spanHz >= 1e6 ? (1e6, "MHz") : spanHz >= 1e3 ? (1e3, "kHz") : (1, "Hz");
-
     private static Plot Plot(SpectrumResult result)
     {
         var plot = new Plot();
         var modes = result.Spectra.Where(s => s.Field == SpectrumField.Mode).ToArray();
-        // Wide enough to show the broadest line with its tails: ten of the widest full width at half maximum.
+        // A mode's quadrature spectra are even in the offset, so the positive side on a log axis shows a narrow mechanical line
+        // and a wide cavity together, from the grid's first offset to ten of the widest half widths.
         double width = modes.Select(s => HalfWidth(result.FrequenciesHz, s.Sxx)).DefaultIfEmpty(1).Max();
         double limit = Math.Min(10 * width, result.FrequenciesHz[^1]);
-        var (scale, unit) = FrequencyUnit(limit);
-        var keep = Enumerable.Range(0, result.FrequenciesHz.Length).Where(k => Math.Abs(result.FrequenciesHz[k]) <= limit).ToArray();
-        double[] xs = [.. keep.Select(k => result.FrequenciesHz[k] / scale)];
+        var keep = Enumerable.Range(0, result.FrequenciesHz.Length).Where(k => result.FrequenciesHz[k] > 0 && result.FrequenciesHz[k] <= limit).ToArray();
+        double[] xs = [.. keep.Select(k => Math.Log10(result.FrequenciesHz[k]))];
         var palette = new ScottPlot.Palettes.Category10();
         double lo = double.PositiveInfinity, hi = double.NegativeInfinity;
         for (int i = 0; i < modes.Length; i++)
@@ -171,20 +167,25 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
             double pad = 0.05 * Math.Max(hi - lo, 1);
             plot.Axes.SetLimitsY(lo - pad, hi + pad);
         }
-        plot.Axes.SetLimitsX(-limit / scale, limit / scale);
-        plot.XLabel($"offset from the mode's frequency ({unit})");
+        plot.Axes.Bottom.TickGenerator = new ScottPlot.TickGenerators.NumericAutomatic
+        {
+            MinorTickGenerator = new ScottPlot.TickGenerators.LogMinorTickGenerator(),
+            IntegerTicksOnly = true,
+            LabelFormatter = x => Quantity.Format(Math.Pow(10, x), Dimension.Frequency, 3),
+        };
+        plot.XLabel("offset from the mode's frequency (log scale; the spectra are even in the offset)");
         plot.YLabel("symmetrised quadrature spectrum (quanta/Hz, log scale)");
         plot.Title($"{result.Scenario.Name}: stationary spectra in stage '{result.Stage}'");
         plot.ShowLegend(Alignment.UpperRight);
         return plot;
     }
 
-    // Half width at half maximum of a peak centred near zero, read off the grid (the grid's extent when it never halves).
+    // Outermost offset at which the spectrum is still at half its maximum: the half width of a line, or of the shoulders of
+    // a line with a dip (a cavity whose noise is cancelled at its centre).
     private static double HalfWidth(IReadOnlyList<double> f, IReadOnlyList<double> s)
     {
-        int peak = 0;
-        for (int k = 1; k < s.Count; k++) if (s[k] > s[peak]) peak = k;
-        for (int k = peak; k < s.Count; k++) if (s[k] < s[peak] / 2) return Math.Max(Math.Abs(f[k]), 1e-300);
-        return Math.Abs(f[^1]);
+        double half = s.Max() / 2, width = 0;
+        for (int k = 0; k < s.Count; k++) if (s[k] >= half) width = Math.Max(width, Math.Abs(f[k]));
+        return Math.Max(width, 1e-300);
     }
 }

@@ -230,6 +230,8 @@ public static class CoolingAnalysis
         warnings.AddRange(fit.Warnings);
         var fitted = x.Select(c => Model(fit.Estimates, c)).ToImmutableArray();
         double chi2 = errors ? fit.Minimum : data.Select((p, i) => Math.Pow(p.Occupancy - fitted[i], 2)).Sum();
+        if (errors && data.Count > 2 && 1 - MathNet.Numerics.Distributions.ChiSquared.CDF(data.Count - 2, chi2) < 1e-3)
+            warnings.Add($"the heating law does not describe the data within their errors (χ² = {chi2:G4} for {data.Count - 2} degrees of freedom); its intervals assume it does");
         return new HeatingFit(fit.Estimates[0], se[0], fit.Estimates[1], se[1],
             fit.Intervals[0]?.Low, fit.Intervals[0]?.High, fit.Intervals[1]?.Low, fit.Intervals[1]?.High,
             chi2, data.Count - 2, errors, fitted);

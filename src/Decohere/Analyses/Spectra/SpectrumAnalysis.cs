@@ -162,9 +162,17 @@ public static class SpectrumAnalysis
         if (scenario.Model == ModelKind.Full)
             for (int t = 0; t < stage.Tones.Length; t++)
             {
-                var (power, probe) = Probe(scenario, stage, t, modes, freqs, settings);
-                sidebands.Add(power);
-                spectra.Add(probe);
+                try
+                {
+                    var (power, probe) = Probe(scenario, stage, t, modes, freqs, settings);
+                    sidebands.Add(power);
+                    spectra.Add(probe);
+                }
+                catch (UnstableDynamicsException e)
+                {
+                    // A blue tone that the red one held in check amplifies alone: it has no stationary sideband to probe.
+                    warnings.Add($"no sideband for tone {t}: {e.Message}");
+                }
             }
         else if (stage.Tones.Length > 0)
             warnings.Add("model: effective has no cavity modes: the output and sideband spectra need model: full");
