@@ -47,11 +47,15 @@ public static class FitCommand
             Description = "Prior on a parameter path: PATH=MEAN±SD (Gaussian, also MEAN+-SD) or PATH=LOW..HIGH (bounded), in the path's units; frees the path. Repeatable.",
             AllowMultipleArgumentsPerToken = false,
         };
+        var calibration = new Option<FileInfo?>("--calibration")
+        {
+            Description = "fit-noise.json of a noise calibration: the data are in measured units; convert them with its gain and take its added noise as a prior.",
+        };
         var output = Cli.OutOption();
         var quiet = Cli.QuietOption();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet and fit.png.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, output, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, calibration, output, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -64,6 +68,7 @@ public static class FitCommand
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
                 Priors = [.. (parse.GetValue(prior) ?? []).Select(text => FitPrior.Parse(text, s))],
+                Calibration = parse.GetValue(calibration) is { } file ? CalibrationFile.Read(file.FullName) : null,
             };
             var result = FitAnalysis.Solve(s, settings, fitData);
             cancel.ThrowIfCancellationRequested();
@@ -85,7 +90,7 @@ public static class FitCommand
     internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
         ["free parameters"] = "--free", ["starts"] = "--starts", ["column mapping"] = "--column", ["delay unit"] = "--delay-unit",
-        ["data file"] = "--data", ["prior"] = "--prior",
+        ["data file"] = "--data", ["prior"] = "--prior", ["calibration"] = "--calibration",
     };
 
     /// <summary>The terminal table: each free parameter and derived quantity with its error and interval.</summary>

@@ -34,6 +34,7 @@ public static class FitAnalysis
     public static FitResult Solve(Scenario scenario, FitSettings settings, FitData data)
     {
         settings.Validate();
+        if (settings.Calibration is { } calibration) return Calibrated(scenario, settings, data, calibration);
         var clock = Stopwatch.StartNew();
         var listed = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
         var free = listed.Concat(settings.Priors.Select(q => q.Path).Where(q => !listed.Contains(q))).ToArray();
@@ -113,6 +114,44 @@ public static class FitAnalysis
         return new FitResult(scenario, fitted, ReadoutChains.For(fitted), data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
             new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], DataLikelihood.Describe(data),
             settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
+    }
+
+    // See FitCalibration: data to quanta, the added noise as a prior, the gain's uncertainty by refits at gain ± σ.
+    private static FitResult Calibrated(Scenario scenario, FitSettings settings, FitData data, FitCalibration calibration)
+    {
+        if (data.Shape == DataShape.Occupancies)
+            throw new InputException("calibration: occupancy data are already in quanta; a calibration converts shots or variances");
+        if (scenario.Readout is not { AddedNoise: not null })
+            throw new InputException("calibration: the scenario's readout must state added_noise (phenomenological), which the calibration replaces");
+        const string noisePath = "readout.added_noise";
+        var priors = settings.Priors.Any(q => q.Path == noisePath) ? settings.Priors
+            : settings.Priors.Add(new FitPrior(noisePath, calibration.AddedNoise, calibration.AddedNoiseSd, null, null));
+        var inner = settings with { Calibration = null, Priors = priors };
+        var result = Solve(scenario, inner, FitCalibration.ToQuanta(data, calibration.Gain));
+        if (calibration.GainSd == 0) return result;
+        // Refits from the optimum, without profiles: only the shift of each estimate is needed.
+        var quick = inner with { Profiles = false, Starts = 1, Free = [.. result.Paths.Select(p => p.Text)] };
+        var up = Solve(result.Fitted, quick, FitCalibration.ToQuanta(data, calibration.Gain + calibration.GainSd)).Parameters;
+        var down = Solve(result.Fitted, quick, FitCalibration.ToQuanta(data, Math.Max(calibration.Gain - calibration.GainSd, 1e-3 * calibration.Gain))).Parameters;
+        double z = Normal.InvCDF(0, 1, 0.5 + settings.Confidence / 2);
+        var widened = result.Parameters.Select((e, k) =>
+        {
+            double shift = 0.5 * Math.Abs(up[k].Value - down[k].Value);
+            double Widen(double half) => Math.Sqrt(half * half + z * z * shift * shift);
+            return e with
+            {
+                StandardError = Math.Sqrt(e.StandardError * e.StandardError + shift * shift),
+                Low = e.LowReached ? e.Value - Widen(e.Value - e.Low) : e.Low,
+                High = e.HighReached ? e.Value + Widen(e.High - e.Value) : e.High,
+                Method = e.Method + "+gain",
+            };
+        }).ToImmutableArray();
+        return result with
+        {
+            Parameters = widened,
+            Warnings = result.Warnings.Add($"calibration {calibration.Source}: data divided by gain {calibration.Gain:G5} ± {calibration.GainSd:G3}; " +
+                $"added noise prior {calibration.AddedNoise:G4} ± {calibration.AddedNoiseSd:G3} quanta; the gain's uncertainty is added to every parameter's error (delta method, intervals marked +gain)"),
+        };
     }
 
     private static double Start(ParameterPath path, Scenario scenario, FitPrior? prior = null)

@@ -15,6 +15,9 @@ public sealed record FitSettings
     /// <summary>Priors on parameters (their paths are freed if not listed in <see cref="Free"/>).</summary>
     public ImmutableArray<FitPrior> Priors { get; init; } = [];
 
+    /// <summary>A readout calibration: data in measured units, converted to quanta with the gain's uncertainty carried.</summary>
+    public FitCalibration? Calibration { get; init; }
+
     /// <summary>Optimiser starts.</summary>
     public int Starts { get; init; } = 4;
 
