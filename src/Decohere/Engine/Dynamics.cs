@@ -24,7 +24,8 @@ public sealed record PathSteps(ImmutableArray<Discretization> Steps, ImmutableAr
 /// <summary>
 /// The solved dynamics of a scenario and its one propagator: per stage its linear model, stability and start state, the
 /// exact state at any time, the states at many times carried forward with cached exact steps, and the output grid.
-/// Within a stage A and D are constant, so every step is exact (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
+/// Within a stage A is constant and D is constant or relaxes exponentially (see <see cref="Step"/>), so every step is exact
+/// (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
 /// </summary>
 public sealed class Dynamics
 {
