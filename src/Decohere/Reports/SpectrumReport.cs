@@ -130,7 +130,10 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
     private static Plot Plot(SpectrumResult result)
     {
         var plot = new Plot();
-        var modes = result.Spectra.Where(s => s.Field == SpectrumField.Mode).ToArray();
+        const int MaxModes = 8;
+        var all = result.Spectra.Where(s => s.Field == SpectrumField.Mode).ToArray();
+        // A legend of more than a few modes hides the lines: the table has them all.
+        var modes = all.Take(MaxModes).ToArray();
         // A mode's quadrature spectra are even in the offset, so the positive side on a log axis shows a narrow mechanical line
         // and a wide cavity together, from the grid's first offset to ten of the widest half widths.
         double width = modes.Select(s => HalfWidth(result.FrequenciesHz, s.Sxx)).DefaultIfEmpty(1).Max();
@@ -175,7 +178,7 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
         };
         plot.XLabel("offset from the mode's frequency (log scale; the spectra are even in the offset)");
         plot.YLabel("symmetrised quadrature spectrum (quanta/Hz, log scale)");
-        plot.Title($"{result.Scenario.Name}: stationary spectra in stage '{result.Stage}'");
+        plot.Title($"{result.Scenario.Name}: stationary spectra in stage '{result.Stage}'{(all.Length > MaxModes ? $" (first {MaxModes} of {all.Length} modes)" : "")}");
         plot.ShowLegend(Alignment.UpperRight);
         return plot;
     }

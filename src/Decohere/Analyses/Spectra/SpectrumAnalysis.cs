@@ -124,24 +124,26 @@ public static class SpectrumAnalysis
         var outputs = cavities.Select(_ => new double[4, count]).ToArray();
         // The grid is symmetric about zero: the ordered spectrum at −ω is the one at the mirrored index.
         var at = new LinearResponse.Response[count];
-        for (int k = 0; k < count; k++) at[k] = response.At(Physics.Angular(freqs[k]));
+        // Frequencies are independent; the response only reads its matrices.
+        Parallel.For(0, count, k => at[k] = response.At(Physics.Angular(freqs[k])));
         for (int k = 0; k < count; k++)
         {
             var r = at[k];
             var mirror = at[count - 1 - k];
             for (int j = 0; j < n; j++)
             {
-                sxx[j, k] = r.Symmetrised[2 * j, 2 * j].Real;
-                spp[j, k] = r.Symmetrised[2 * j + 1, 2 * j + 1].Real;
-                anti[j, k] = LinearResponse.Antinormal(r.Ordered, j);
-                normal[j, k] = LinearResponse.Normal(mirror.Ordered, j);
+                var block = r.Of(j);
+                sxx[j, k] = block.Symmetrised[0, 0].Real;
+                spp[j, k] = block.Symmetrised[1, 1].Real;
+                anti[j, k] = LinearResponse.Antinormal(block.Ordered);
+                normal[j, k] = LinearResponse.Normal(mirror.Of(j).Ordered);
             }
             for (int c = 0; c < cavities.Length; c++)
             {
                 var (mode, j) = cavities[c];
                 double nc = ModelBuilder.BathOccupancy(scenario, mode, stage);
-                FillOutput(outputs[c], k, LinearResponse.Output(r, j, mode.DecayRate, nc, settings.Efficiency),
-                    LinearResponse.Output(mirror, j, mode.DecayRate, nc, settings.Efficiency));
+                FillOutput(outputs[c], k, LinearResponse.Output(r.Of(j), mode.DecayRate, nc, settings.Efficiency),
+                    LinearResponse.Output(mirror.Of(j), mode.DecayRate, nc, settings.Efficiency));
             }
         }
         var spectra = ImmutableArray.CreateBuilder<Spectrum>();
@@ -222,8 +224,8 @@ public static class SpectrumAnalysis
         target[0, k] = s[0, 0].Real;
         target[1, k] = s[1, 1].Real;
         // Normal ordering counts photons above the vacuum: ūᵀ(S̄ + iΩ/2)u at −ω.
-        target[2, k] = LinearResponse.Normal(LinearResponse.OrderedField(mirror), 0);
-        target[3, k] = LinearResponse.Antinormal(LinearResponse.OrderedField(s), 0);
+        target[2, k] = LinearResponse.Normal(LinearResponse.OrderedField(mirror));
+        target[3, k] = LinearResponse.Antinormal(LinearResponse.OrderedField(s));
     }
 
     private static Spectrum Field(string mode, SpectrumField field, int? tone, double? offset, double[,] values, int count)
@@ -253,10 +255,12 @@ public static class SpectrumAnalysis
 
         int count = freqs.Length;
         var response = new LinearResponse(probe);
-        var at = freqs.Select(f => response.At(Physics.Angular(f))).ToArray();
+        // Only the cavity's rows of the susceptibility are needed here.
+        var at = new LinearResponse.Block[count];
+        Parallel.For(0, count, k => at[k] = response.At(Physics.Angular(freqs[k]), [c]).Of(c));
         var values = new double[4, count];
         for (int k = 0; k < count; k++)
-            FillOutput(values, k, LinearResponse.Output(at[k], c, kappa, nc, settings.Efficiency), LinearResponse.Output(at[count - 1 - k], c, kappa, nc, settings.Efficiency));
+            FillOutput(values, k, LinearResponse.Output(at[k], kappa, nc, settings.Efficiency), LinearResponse.Output(at[count - 1 - k], kappa, nc, settings.Efficiency));
         double fm = scenario.ModeNamed(tone.Mechanical).FrequencyHz;
         return (sideband, Field(tone.Cavity, SpectrumField.Probe, t, tone.Sideband == Sideband.Red ? -fm : fm, values, count));
     }
