@@ -73,6 +73,12 @@ public class TransientBathTests
             }
         }
         Assert.Equal(checks.Length, next);
+        // The model's own D(t) is the one written out here.
+        foreach (var (stage, time) in new[] { (0, 0.1e-3), (1, 1.25e-3) })
+        {
+            var d = ModelBuilder.DiffusionAt(scenario, scenario.Stages[stage], stage * 1e-3, time);
+            Assert.True((d - Diffusion(scenario, stage, time)).FrobeniusNorm() < 1e-12 * d.FrobeniusNorm());
+        }
     }
 
     /// <summary>The same physics through the paths fits use: excess and relax_time resolve, and a larger excess heats more.</summary>
