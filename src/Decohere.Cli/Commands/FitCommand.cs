@@ -42,13 +42,22 @@ public static class FitCommand
         var mode = new Option<string?>("--mode") { Description = "With a mode column in shot data: the mode's rows to keep (default: the readout mode)." };
         var starts = new Option<int>("--starts") { Description = "Optimiser starts (default 4).", DefaultValueFactory = _ => 4 };
         var noProfiles = new Option<bool>("--no-profiles") { Description = "Skip the profile-likelihood intervals (report Wald intervals from the standard errors)." };
+        var prior = new Option<string[]>("--prior")
+        {
+            Description = "Prior on a parameter path: PATH=MEAN±SD (Gaussian, also MEAN+-SD) or PATH=LOW..HIGH (bounded), in the path's units; frees the path. Repeatable.",
+            AllowMultipleArgumentsPerToken = false,
+        };
+        var calibration = new Option<FileInfo?>("--calibration")
+        {
+            Description = "fit-noise.json of a noise calibration: the data are in measured units; convert them with its gain and take its added noise as a prior.",
+        };
         var output = Cli.OutOption();
         var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet, fit.png/.svg and the results table fit.md/.tex.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, output, format, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, calibration, output, format, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
@@ -61,6 +70,8 @@ public static class FitCommand
                 Free = [.. (parse.GetValue(free) ?? []).SelectMany(f => f.Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries))],
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
+                Priors = [.. (parse.GetValue(prior) ?? []).Select(text => FitPrior.Parse(text, s))],
+                Calibration = parse.GetValue(calibration) is { } file ? CalibrationFile.Read(file.FullName) : null,
             };
             var result = FitAnalysis.Solve(s, settings, fitData, cancel);
             cancel.ThrowIfCancellationRequested();
@@ -82,7 +93,7 @@ public static class FitCommand
     internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
         ["free parameters"] = "--free", ["starts"] = "--starts", ["column mapping"] = "--column", ["delay unit"] = "--delay-unit",
-        ["data file"] = "--data",
+        ["data file"] = "--data", ["prior"] = "--prior", ["calibration"] = "--calibration",
     };
 
     /// <summary>The terminal table: each free parameter, derived quantity and identified combination, named and scaled as in fit.md.</summary>

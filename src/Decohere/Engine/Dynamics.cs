@@ -24,7 +24,8 @@ public sealed record PathSteps(ImmutableArray<Discretization> Steps, ImmutableAr
 /// <summary>
 /// The solved dynamics of a scenario and its one propagator: per stage its linear model, stability and start state, the
 /// exact state at any time, the states at many times carried forward with cached exact steps, and the output grid.
-/// Within a stage A and D are constant, so every step is exact (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
+/// Within a stage A is constant and D is constant or relaxes exponentially (see <see cref="Step"/>), so every step is exact
+/// (C. F. Van Loan, IEEE Trans. Autom. Control 23, 395 (1978)).
 /// </summary>
 public sealed class Dynamics
 {
@@ -62,6 +63,9 @@ public sealed class Dynamics
     /// <summary>Linear model of each of <see cref="Stages"/>.</summary>
     public ImmutableArray<LinearModel> Models { get; }
 
+    /// <summary>The relaxing parts of the diffusion of each of <see cref="Stages"/> (empty for a stage with settled baths).</summary>
+    public ImmutableArray<ImmutableArray<BathTransient>> Transients { get; }
+
     /// <summary>Eigenvalue stability of each of <see cref="Stages"/>.</summary>
     public ImmutableArray<Stability> Stabilities { get; }
 
@@ -84,6 +88,8 @@ public sealed class Dynamics
             : scenario.Stages;
         ModeNames = [.. ModelBuilder.StateModes(scenario).Select(m => m.Name)];
         Models = [.. Stages.Select(s => ModelBuilder.Build(scenario, s))];
+        // The extension continues the last stage, so a transient of its bath override keeps that stage's reference time.
+        Transients = [.. Stages.Select((s, i) => ModelBuilder.Transients(scenario, s, scenario.StageStarts[Math.Min(i, scenario.Stages.Length - 1)]))];
         for (int i = 0; i < Models.Length; i++)
             if (!AllFinite(Models[i].Drift) || !AllFinite(Models[i].Diffusion))
                 throw new UnstableDynamicsException(double.NaN,
@@ -141,10 +147,55 @@ public sealed class Dynamics
     /// <summary>Propagates a state through <paramref name="duration"/> seconds of stage <paramref name="stage"/>, exactly.</summary>
     public GaussianState Propagate(GaussianState state, int stage, double duration)
     {
-        var model = Models[stage];
-        var step = VanLoan.Discretize(model.Drift, model.Diffusion, duration);
+        var step = Step(stage, StageStarts[stage], duration);
         return state with { Mean = step.Phi * state.Mean, Covariance = DenseProduct.Congruence(step.Phi, state.Covariance, step.Q) };
     }
+
+    /// <summary>
+    /// The exact step (Φ, Q) of stage i from time <paramref name="fromS"/> over <paramref name="duration"/>. With settled baths it
+    /// is Van Loan's. A relaxing bath adds e^{−(t − t_k)/τ} D_k to D; over a piece of length h starting at s₀ its noise is
+    /// w(s₀) ∫₀^h e^{A(h−s)} D_k e^{Aᵀ(h−s)} e^{−s/τ} ds = w(s₀) e^{−h/τ} ∫₀^h e^{Bu} D_k e^{Bᵀu} du with B = A + I/(2τ)
+    /// (substitute u = h − s and split e^{u/τ} = e^{u/2τ}·e^{u/2τ}): Van Loan's integral for the shifted drift, so each piece is
+    /// exact. Pieces of at most τ keep the shifted drift from growing by more than e^{1/2}; they are composed as
+    /// (Φ₂Φ₁, Φ₂Q₁Φ₂ᵀ + Q₂), and once every excess has decayed below 10⁻¹⁸ of itself the rest is one settled step.
+    /// </summary>
+    public Discretization Step(int stage, double fromS, double duration)
+    {
+        var model = Models[stage];
+        var transients = Transients[stage];
+        const double Negligible = 1e-18;
+        if (transients.All(k => k.WeightAt(fromS) < Negligible)) return VanLoan.Discretize(model.Drift, model.Diffusion, duration);
+        double tau = transients.Min(k => k.RelaxTimeS);
+        // Up to the time every excess is negligible; equal pieces share one set of exponentials.
+        double active = Math.Min(duration, transients.Max(k => k.StartS + k.RelaxTimeS * -Math.Log(Negligible)) - fromS);
+        int pieces = Math.Max(1, (int)Math.Ceiling(active / tau));
+        double h = active / pieces;
+        var (settled, shifted) = _pieces.GetOrAdd((stage, h), key =>
+        {
+            int n = model.Dimension;
+            var identity = Matrix<double>.Build.DenseIdentity(n);
+            return (VanLoan.Discretize(model.Drift, model.Diffusion, key.Item2),
+                [.. transients.Select(k => VanLoan.Discretize(model.Drift + identity / (2 * k.RelaxTimeS), k.Diffusion, key.Item2).Q * Math.Exp(-key.Item2 / k.RelaxTimeS))]);
+        });
+        var phi = Matrix<double>.Build.DenseIdentity(model.Dimension);
+        var q = Matrix<double>.Build.Dense(model.Dimension, model.Dimension);
+        for (int p = 0; p < pieces; p++)
+        {
+            var pieceQ = settled.Q.Clone();
+            for (int k = 0; k < transients.Length; k++) pieceQ += shifted[k] * transients[k].WeightAt(fromS + p * h);
+            q = DenseProduct.Congruence(settled.Phi, q, pieceQ);
+            phi = settled.Phi * phi;
+        }
+        if (active < duration)
+        {
+            var rest = VanLoan.Discretize(model.Drift, model.Diffusion, duration - active);
+            q = DenseProduct.Congruence(rest.Phi, q, rest.Q);
+            phi = rest.Phi * phi;
+        }
+        return new Discretization(phi, (q + q.Transpose()) * 0.5, duration);
+    }
+
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<(int, double), (Discretization, Matrix<double>[])> _pieces = new();
 
     /// <summary>The stage running at time t (a boundary time belongs to the stage that ends there; t = 0 to the first).</summary>
     /// <exception cref="ArgumentOutOfRangeException">t is negative or NaN, or past the end without <see cref="ContinuesPastEnd"/>.</exception>
@@ -343,6 +394,13 @@ public sealed class Dynamics
 
         public int Find(int stage, double gap, double time, out double used)
         {
+            // A relaxing bath makes every step depend on when it starts: nothing to share.
+            if (owner.Transients[stage].Length > 0)
+            {
+                Steps.Add(owner.Step(stage, time - gap, gap));
+                used = gap;
+                return Steps.Count - 1;
+            }
             if (!_byStage.TryGetValue(stage, out var list)) _byStage[stage] = list = [];
             // Most recent first: evenly spaced times hit on the first comparison.
             for (int j = list.Count - 1; j >= 0; j--)

@@ -27,6 +27,15 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     /// <summary><c>fit-noise</c>.</summary>
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json", "fit-noise.png", "fit-noise.svg"]);
 
+    /// <summary><c>spectrum</c>.</summary>
+    public static OutputSet Spectrum { get; } = new("spectrum", ["spectrum.json", "spectrum.parquet", "spectrum.png"]);
+
+    /// <summary><c>cooling</c>.</summary>
+    public static OutputSet Cooling { get; } = new("cooling", ["cooling.json", "cooling.parquet", "cooling.png"]);
+
+    /// <summary><c>ringdown</c>.</summary>
+    public static OutputSet Ringdown { get; } = new("ringdown", ["ringdown.json", "ringdown.parquet", "ringdown.png"]);
+
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg", "sweep.csv"]);
 

@@ -1,5 +1,6 @@
 using System.Collections.Immutable;
 using System.Numerics;
+using MathNet.Numerics.LinearAlgebra;
 using Decohere.Core;
 using Decohere.Scenarios;
 
@@ -13,6 +14,60 @@ public static class ModelBuilder
         ? scenario.Modes
         : [.. scenario.Modes.Where(m => m.Kind == ModeKind.Mechanical)];
 
+    /// <summary>
+    /// The settled occupancy of a mode's bath in a stage: the stage's override or the mode's own bath, plus, for a cavity
+    /// with a heating law, the extra quanta at the summed cooperativity C = Σ 4G²/(κγ) of the stage's tones on it.
+    /// </summary>
+    public static double BathOccupancy(Scenario scenario, Mode mode, Stage stage)
+    {
+        var bath = scenario.BathOf(mode, stage);
+        if (bath.Heating is not { } law) return bath.Occupancy;
+        return bath.Occupancy + law.ExcessAt(Cooperativity(scenario, mode, stage));
+    }
+
+    /// <summary>Summed cooperativity C = Σ 4G²/(κγ) of the stage's tones on a cavity (κ the cavity's, γ each tone's mechanical mode's).</summary>
+    public static double Cooperativity(Scenario scenario, Mode cavity, Stage stage) =>
+        stage.Tones.Where(t => t.Cavity == cavity.Name).Sum(t =>
+        {
+            double g = Physics.Angular(t.CouplingHz);
+            return 4 * g * g / (cavity.DecayRate * scenario.ModeNamed(t.Mechanical).DecayRate);
+        });
+
+    /// <summary>
+    /// The relaxing parts of a stage's diffusion: D(t) = D + Σ_k e^{−(t − t_k)/τ_k} D_k for every transient bath active in the
+    /// stage (its from_stage starts at or before the stage). D is affine in each bath occupancy, so D_k is the diffusion with
+    /// that bath raised by its excess minus the settled one, for any model (full or effective).
+    /// </summary>
+    /// <param name="scenario">The scenario.</param>
+    /// <param name="stage">The stage (its bath overrides decide the baths).</param>
+    /// <param name="stageStartS">Start of the stage (s): a stage override's default reference, and the test of activity.</param>
+    public static ImmutableArray<BathTransient> Transients(Scenario scenario, Stage stage, double stageStartS)
+    {
+        var result = ImmutableArray.CreateBuilder<BathTransient>();
+        LinearModel? settled = null;
+        foreach (var mode in scenario.Modes)
+        {
+            var bath = scenario.BathOf(mode, stage);
+            if (!bath.IsTransient) continue;
+            double start = bath.FromStage is { } from ? scenario.StageStarts[scenario.StageIndex(from)]
+                : stage.BathOverrides.ContainsKey(mode.Name) ? stageStartS : 0;
+            if (start > stageStartS) continue;
+            settled ??= Build(scenario, stage);
+            var raised = stage with { BathOverrides = stage.BathOverrides.SetItem(mode.Name, bath with { Occupancy = bath.Occupancy + bath.Excess, Excess = 0 }) };
+            var part = Build(scenario, raised).Diffusion - settled.Diffusion;
+            if (part.Enumerate().Any(x => x != 0)) result.Add(new BathTransient(part, bath.RelaxTimeS, start));
+        }
+        return result.ToImmutable();
+    }
+
+    /// <summary>The diffusion of a stage at time t (s from the start of the first stage): D + Σ_k e^{−(t − t_k)/τ_k} D_k.</summary>
+    public static Matrix<double> DiffusionAt(Scenario scenario, Stage stage, double stageStartS, double t)
+    {
+        var d = Build(scenario, stage).Diffusion.Clone();
+        foreach (var part in Transients(scenario, stage, stageStartS)) d += part.Diffusion * part.WeightAt(t);
+        return d;
+    }
+
     /// <summary>The drift and diffusion of a stage.</summary>
     public static LinearModel Build(Scenario scenario, Stage stage)
     {
@@ -23,7 +78,7 @@ public static class ModelBuilder
         foreach (var mode in modes)
         {
             int j = index[mode.Name];
-            system.AddDamping(j, mode.DecayRate, scenario.BathOf(mode, stage).Occupancy);
+            system.AddDamping(j, mode.DecayRate, BathOccupancy(scenario, mode, stage));
             if (stage.DetuningsHz.TryGetValue(mode.Name, out double delta))
                 system.AddDetuning(j, Physics.Angular(delta));
         }
@@ -62,7 +117,7 @@ public static class ModelBuilder
         {
             var cavity = scenario.ModeNamed(group.Key);
             double kappa = cavity.DecayRate;
-            double nc = scenario.BathOf(cavity, stage).Occupancy;
+            double nc = BathOccupancy(scenario, cavity, stage);
             var terms = group.Select(t =>
             {
                 double g = 2 * Physics.Angular(t.CouplingHz) / Math.Sqrt(kappa);
@@ -97,4 +152,14 @@ public static class ModelBuilder
             }
         }
     }
+}
+
+/// <summary>A relaxing part of the diffusion: e^{−(t − StartS)/RelaxTimeS}·Diffusion for t ≥ StartS.</summary>
+/// <param name="Diffusion">D_k, the diffusion of the bath's excess at its full size.</param>
+/// <param name="RelaxTimeS">Relaxation time τ_k (s).</param>
+/// <param name="StartS">When the excess starts relaxing (s from the start of the first stage).</param>
+public sealed record BathTransient(Matrix<double> Diffusion, double RelaxTimeS, double StartS)
+{
+    /// <summary>e^{−(t − StartS)/τ} (t ≥ StartS; the transient is only built for stages that start after it began).</summary>
+    public double WeightAt(double t) => Math.Exp(-Math.Max(t - StartS, 0) / RelaxTimeS);
 }

@@ -78,6 +78,7 @@ public sealed partial class ParameterPath
         {
             list.Add($"modes.{m.Name}.bath.occupancy");
             list.Add($"modes.{m.Name}.bath.temperature");
+            if (m.Bath.IsTransient) list.AddRange([$"modes.{m.Name}.bath.excess", $"modes.{m.Name}.bath.relax_time"]);
             list.Add($"modes.{m.Name}.linewidth");
             list.Add($"modes.{m.Name}.quality_factor");
             list.Add($"modes.{m.Name}.frequency");
@@ -145,10 +146,14 @@ public sealed partial class ParameterPath
             return field switch
             {
                 "bath.occupancy" => new(path, Dimension.Dimensionless, false, x => x.ModeNamed(mode).Bath.Occupancy,
-                    (x, v) => WithMode(x, mode, m => m with { Bath = new Bath(v) })),
+                    (x, v) => WithMode(x, mode, m => m with { Bath = m.Bath with { Occupancy = v, TemperatureK = null } })),
                 "bath.temperature" => new(path, Dimension.Temperature, false,
                     x => x.ModeNamed(mode) is var m && m.Bath.TemperatureK is { } t ? t : Physics.Temperature(m.FrequencyHz, m.Bath.Occupancy),
-                    (x, v) => WithMode(x, mode, m => m with { Bath = new Bath(Physics.Occupancy(m.FrequencyHz, v), v) })),
+                    (x, v) => WithMode(x, mode, m => m with { Bath = m.Bath with { Occupancy = Physics.Occupancy(m.FrequencyHz, v), TemperatureK = v } })),
+                "bath.excess" when s.ModeNamed(mode).Bath.IsTransient => new(path, Dimension.Dimensionless, false, x => x.ModeNamed(mode).Bath.Excess,
+                    (x, v) => WithMode(x, mode, m => m with { Bath = m.Bath with { Excess = v } })),
+                "bath.relax_time" when s.ModeNamed(mode).Bath.IsTransient => new(path, Dimension.Time, true, x => x.ModeNamed(mode).Bath.RelaxTimeS,
+                    (x, v) => WithMode(x, mode, m => m with { Bath = m.Bath with { RelaxTimeS = v } })),
                 "linewidth" => new(path, Dimension.Frequency, true, x => x.ModeNamed(mode).LinewidthHz,
                     (x, v) => WithMode(x, mode, m => m with { LinewidthHz = v })),
                 "quality_factor" => new(path, Dimension.Dimensionless, true, x => x.ModeNamed(mode).QualityFactor,
@@ -157,7 +162,7 @@ public sealed partial class ParameterPath
                     (x, v) => WithMode(x, mode, m => m with
                     {
                         FrequencyHz = v,
-                        Bath = m.Bath.TemperatureK is { } t ? new Bath(Physics.Occupancy(v, t), t) : m.Bath,
+                        Bath = m.Bath.TemperatureK is { } t ? m.Bath with { Occupancy = Physics.Occupancy(v, t) } : m.Bath,
                     })),
                 _ => null,
             };

@@ -16,7 +16,45 @@ public enum Sideband { Red, Blue }
 public enum CouplingKind { BeamSplitter, TwoModeSqueezing }
 
 /// <summary>A thermal bath, by its occupancy (quanta); the temperature is kept when the file gave one.</summary>
-public sealed record Bath(double Occupancy, double? TemperatureK = null);
+public sealed record Bath(double Occupancy, double? TemperatureK = null)
+{
+    /// <summary>A cavity bath that grows with the drive: n_c = occupancy + law(C), C the summed cooperativity of the tones on the cavity.</summary>
+    public HeatingLaw? Heating { get; init; }
+
+    /// <summary>Transient excess occupancy: n(t) = occupancy + Excess·e^{−(t − t_s)/RelaxTimeS} from the start t_s of <see cref="FromStage"/>.</summary>
+    public double Excess { get; init; }
+
+    /// <summary>Relaxation time τ of the excess (s); 0 when there is none.</summary>
+    public double RelaxTimeS { get; init; }
+
+    /// <summary>The stage whose start the excess relaxes from; null: the first stage (or, for a stage's bath override, that stage).</summary>
+    public string? FromStage { get; init; }
+
+    /// <summary>True when the bath relaxes in time.</summary>
+    public bool IsTransient => Excess != 0 && RelaxTimeS > 0;
+}
+
+/// <summary>
+/// Drive-induced heating of a cavity's bath: extra occupancy Coefficient·C^Exponent at cooperativity C, or, when
+/// <see cref="Table"/> is given, its value interpolated linearly in C (held at the end values outside the table).
+/// </summary>
+public sealed record HeatingLaw(double Coefficient, double Exponent, ImmutableArray<(double Cooperativity, double Excess)> Table = default)
+{
+    /// <summary>The extra occupancy at cooperativity C ≥ 0.</summary>
+    public double ExcessAt(double cooperativity)
+    {
+        if (Table.IsDefaultOrEmpty) return cooperativity > 0 ? Coefficient * Math.Pow(cooperativity, Exponent) : 0;
+        if (cooperativity <= Table[0].Cooperativity) return Table[0].Excess;
+        for (int k = 1; k < Table.Length; k++)
+            if (cooperativity <= Table[k].Cooperativity)
+            {
+                var (c0, n0) = Table[k - 1];
+                var (c1, n1) = Table[k];
+                return n0 + (n1 - n0) * (cooperativity - c0) / (c1 - c0);
+            }
+        return Table[^1].Excess;
+    }
+}
 
 /// <summary>One bosonic mode. Frequencies and linewidths are ordinary frequencies (Hz).</summary>
 public sealed record Mode(string Name, ModeKind Kind, double FrequencyHz, double LinewidthHz, Bath Bath)

@@ -152,6 +152,9 @@ public static class ScenarioLoader
             var couplings = Couplings(YamlReader.Get(root, "couplings"), byName, model);
             var initial = Initials(YamlReader.Get(root, "initial"), byName);
             var stages = Stages(r.Required(root, "", "stages", "list of stages"), byName, model);
+            foreach (var (path, node, stageName) in _fromStages)
+                if (!stages.Any(s => s.Name == stageName))
+                    r.Report(path, node, $"unknown stage '{stageName}'{NameSuggestion.Suggest(stageName, [.. stages.Select(s => s.Name)])}; stages: {string.Join(", ", stages.Select(s => s.Name))}");
             var readout = ReadoutOf(YamlReader.Get(root, "readout"), byName, stages);
             var jitter = JitterOf(YamlReader.Get(root, "jitter"), byName);
 
@@ -310,8 +313,10 @@ public static class ScenarioLoader
         private Bath? BathOf(YamlNode? node, string path, double? frequencyHz)
         {
             var r = Reader;
-            var m = r.Mapping(node, path, "temperature", "occupancy");
+            var m = r.Mapping(node, path, "temperature", "occupancy", "heating", "excess", "relax_time", "from_stage");
             if (m is null) return null;
+            var heating = HeatingOf(YamlReader.Get(m, "heating"), path + ".heating");
+            var (excess, relax, from) = TransientOf(m, path);
             var t = YamlReader.Get(m, "temperature");
             var n = YamlReader.Get(m, "occupancy");
             if ((t is null) == (n is null))
@@ -322,11 +327,70 @@ public static class ScenarioLoader
             if (n is not null)
             {
                 double? occ = r.Number(n, path + ".occupancy", Dimension.Dimensionless, 0);
-                return occ is null ? null : new Bath(occ.Value);
+                return occ is null ? null : new Bath(occ.Value) { Heating = heating, Excess = excess, RelaxTimeS = relax, FromStage = from };
             }
             double? kelvin = r.Number(t, path + ".temperature", Dimension.Temperature, 0);
             if (kelvin is null || frequencyHz is null) return null;
-            return new Bath(Physics.Occupancy(frequencyHz.Value, kelvin.Value), kelvin.Value);
+            return new Bath(Physics.Occupancy(frequencyHz.Value, kelvin.Value), kelvin.Value) { Heating = heating, Excess = excess, RelaxTimeS = relax, FromStage = from };
+        }
+
+        // Stage names a transient bath relaxes from, checked once the stages are read: (path, node, name).
+        private readonly List<(string Path, YamlNode Node, string Name)> _fromStages = [];
+
+        // excess: 150 (quanta), relax_time: 2 ms, from_stage: readout; excess and relax_time come together.
+        private (double Excess, double RelaxTimeS, string? FromStage) TransientOf(YamlMappingNode m, string path)
+        {
+            var r = Reader;
+            var e = YamlReader.Get(m, "excess");
+            var t = YamlReader.Get(m, "relax_time");
+            var from = YamlReader.Get(m, "from_stage");
+            if (e is null && t is null && from is null) return (0, 0, null);
+            if (e is null || t is null)
+            {
+                r.Report(path, m, "a transient bath needs both excess (quanta) and relax_time (e.g. 2 ms)");
+                return (0, 0, null);
+            }
+            double? excess = r.Number(e, path + ".excess", Dimension.Dimensionless, 0, max: MaxQuanta);
+            double? tau = r.Number(t, path + ".relax_time", Dimension.Time, 0, minExclusive: true);
+            string? stage = from is null ? null : r.String(from, path + ".from_stage");
+            if (stage is not null) _fromStages.Add((path + ".from_stage", from!, stage));
+            return excess is null || tau is null ? (0, 0, null) : (excess.Value, tau.Value, stage);
+        }
+
+        // heating: { coefficient: 2e-5, exponent: 1 } (extra quanta a·C^b) or { table: [[C, extra], ...] }, C increasing.
+        private HeatingLaw? HeatingOf(YamlNode? node, string path)
+        {
+            var r = Reader;
+            var m = r.Mapping(node, path, "coefficient", "exponent", "table");
+            if (m is null) return null;
+            var tableNode = YamlReader.Get(m, "table");
+            if (tableNode is not null)
+            {
+                if (YamlReader.Has(m, "coefficient") || YamlReader.Has(m, "exponent"))
+                    r.Report(path, m, "give either coefficient and exponent or a table, not both");
+                var rows = r.Sequence(tableNode, path + ".table");
+                if (rows is null) return null;
+                var table = ImmutableArray.CreateBuilder<(double, double)>();
+                for (int k = 0; k < rows.Children.Count; k++)
+                {
+                    string at = $"{path}.table[{k}]";
+                    if (rows.Children[k] is not YamlSequenceNode pair || pair.Children.Count != 2)
+                    {
+                        r.Report(at, rows.Children[k], "expected a pair [cooperativity, extra occupancy]");
+                        continue;
+                    }
+                    double? c = r.Number(pair.Children[0], at + "[0]", Dimension.Dimensionless, 0, max: 1e12);
+                    double? n = r.Number(pair.Children[1], at + "[1]", Dimension.Dimensionless, 0, max: MaxQuanta);
+                    if (c is null || n is null) continue;
+                    if (table.Count > 0 && c <= table[^1].Item1) r.Report(at, pair, "cooperativities must increase down the table");
+                    table.Add((c.Value, n.Value));
+                }
+                if (rows.Children.Count == 0) r.Report(path + ".table", rows, "the table needs at least one row");
+                return new HeatingLaw(0, 0, table.ToImmutable());
+            }
+            double? a = r.Number(r.Required(m, path, "coefficient", "extra quanta per unit cooperativity^exponent"), path + ".coefficient", Dimension.Dimensionless, 0, max: MaxQuanta);
+            double? b = r.Number(YamlReader.Get(m, "exponent"), path + ".exponent", Dimension.Dimensionless, 0, max: 10) ?? 1;
+            return a is null ? null : new HeatingLaw(a.Value, b.Value);
         }
 
         private Mode? ModeRef(YamlNode? node, string path, Dictionary<string, Mode> modes, ModeKind? required)

@@ -38,9 +38,13 @@ public static class FitAnalysis
     public static FitResult Solve(Scenario scenario, FitSettings settings, FitData data, CancellationToken cancel = default)
     {
         settings.Validate();
+        if (settings.Calibration is { } calibration) return Calibrated(scenario, settings, data, calibration, cancel);
         var clock = Stopwatch.StartNew();
-        var free = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
-        if (free.Count == 0) throw new InputException("free parameters: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
+        var listed = settings.Free.IsDefaultOrEmpty ? DefaultFree(scenario, data.Shape) : settings.Free;
+        var free = listed.Concat(settings.Priors.Select(q => q.Path).Where(q => !listed.Contains(q))).ToArray();
+        var repeatedPrior = settings.Priors.GroupBy(q => q.Path).FirstOrDefault(g => g.Count() > 1);
+        if (repeatedPrior is not null) throw new InputException($"prior: '{repeatedPrior.Key}' has two priors");
+        if (free.Length == 0) throw new InputException("free parameters: at least one parameter path is needed, e.g. modes.drum.bath.occupancy");
         var paths = free.Select(f => ParameterPath.Parse(f, scenario)).ToImmutableArray();
         var repeated = paths.GroupBy(p => p.Text).FirstOrDefault(g => g.Count() > 1);
         if (repeated is not null) throw new InputException($"free parameters: '{repeated.Key}' is listed twice");
@@ -52,9 +56,15 @@ public static class FitAnalysis
         }
         var model = new ReadoutModel(scenario, paths);
         var delays = data.Delays.Select(d => d.DelayS).ToArray();
-        double Objective(double[] x) => DataLikelihood.Total(data, model.Predict(x, delays, cancel));
+        var priors = paths.Select(p => settings.Priors.FirstOrDefault(q => q.Path == p.Text)).ToArray();
+        double Objective(double[] x)
+        {
+            double prior = 0;
+            for (int k = 0; k < x.Length; k++) if (priors[k] is { } q) prior += q.Minus2LogPrior(x[k]);
+            return double.IsFinite(prior) ? DataLikelihood.Total(data, model.Predict(x, delays, cancel)) + prior : double.PositiveInfinity;
+        }
 
-        var parameters = paths.Select(p => new FitParameter(p.Text, Start(p, scenario),
+        var parameters = paths.Select((p, k) => new FitParameter(p.Text, Start(p, scenario, priors[k]),
             p.MustBePositive ? ParameterDomain.Positive : p.IsSigned ? ParameterDomain.Real : ParameterDomain.NonNegative)).ToArray();
         var ml = MaximumLikelihood.Fit(Objective, parameters, new MaximumLikelihoodSettings
         {
@@ -91,7 +101,7 @@ public static class FitAnalysis
             derived = [.. derived.Select(d => d.Name == thermal.Name ? thermal.FittedQuantity : d)];
         }
 
-        int dof = DataLikelihood.Terms(data) - p;
+        int dof = DataLikelihood.Terms(data) + settings.Priors.Count(q => q.IsGaussian) - p;
         double pValue = dof > 0 ? ChiSquared.CDF(dof, ml.Minimum) is var c ? 1 - c : double.NaN : double.NaN;
         var goodness = new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue);
         if (dof > 0 && pValue < 1e-3)
@@ -112,8 +122,49 @@ public static class FitAnalysis
             settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
     }
 
-    private static double Start(ParameterPath path, Scenario scenario)
+    // See FitCalibration: data to quanta, the added noise as a prior, the gain's uncertainty by refits at gain ± σ.
+    private static FitResult Calibrated(Scenario scenario, FitSettings settings, FitData data, FitCalibration calibration, CancellationToken cancel)
     {
+        if (data.Shape == DataShape.Occupancies)
+            throw new InputException("calibration: occupancy data are already in quanta; a calibration converts shots or variances");
+        if (scenario.Readout is not { AddedNoise: not null })
+            throw new InputException("calibration: the scenario's readout must state added_noise (phenomenological), which the calibration replaces");
+        const string noisePath = "readout.added_noise";
+        var priors = settings.Priors.Any(q => q.Path == noisePath) ? settings.Priors
+            : settings.Priors.Add(new FitPrior(noisePath, calibration.AddedNoise, calibration.AddedNoiseSd, null, null));
+        var inner = settings with { Calibration = null, Priors = priors };
+        var result = Solve(scenario, inner, FitCalibration.ToQuanta(data, calibration.Gain), cancel);
+        if (calibration.GainSd == 0) return result;
+        // Refits from the optimum, without profiles: only the shift of each estimate is needed.
+        var quick = inner with { Profiles = false, Starts = 1, Free = [.. result.Paths.Select(p => p.Text)] };
+        var up = Solve(result.Fitted, quick, FitCalibration.ToQuanta(data, calibration.Gain + calibration.GainSd), cancel).Parameters;
+        var down = Solve(result.Fitted, quick, FitCalibration.ToQuanta(data, Math.Max(calibration.Gain - calibration.GainSd, 1e-3 * calibration.Gain)), cancel).Parameters;
+        double z = Normal.InvCDF(0, 1, 0.5 + settings.Confidence / 2);
+        var widened = result.Parameters.Select((e, k) =>
+        {
+            double shift = 0.5 * Math.Abs(up[k].Value - down[k].Value);
+            double Widen(double half) => Math.Sqrt(half * half + z * z * shift * shift);
+            return e with
+            {
+                StandardError = Math.Sqrt(e.StandardError * e.StandardError + shift * shift),
+                Low = e.LowReached ? e.Value - Widen(e.Value - e.Low) : e.Low,
+                High = e.HighReached ? e.Value + Widen(e.High - e.Value) : e.High,
+                Method = e.Method + "+gain",
+            };
+        }).ToImmutableArray();
+        return result with
+        {
+            Parameters = widened,
+            Warnings = result.Warnings.Add($"calibration {calibration.Source}: data divided by gain {calibration.Gain:G5} ± {calibration.GainSd:G3}; " +
+                $"added noise prior {calibration.AddedNoise:G4} ± {calibration.AddedNoiseSd:G3} quanta; the gain's uncertainty is added to every parameter's error (delta method, intervals marked +gain)"),
+        };
+    }
+
+    private static double Start(ParameterPath path, Scenario scenario, FitPrior? prior = null)
+    {
+        // A start the prior forbids would leave the optimiser on an infinite plateau.
+        if (prior is { IsGaussian: false } && prior.Minus2LogPrior(path.Get(scenario)) > 0)
+            return prior.Low > 0 ? Math.Sqrt(prior.Low!.Value * prior.High!.Value) : 0.5 * (prior.Low!.Value + prior.High!.Value);
         double v = path.Get(scenario);
         if (v > 0 && double.IsFinite(v)) return v;
         return path.Dimension switch

@@ -12,6 +12,12 @@ public sealed record FitSettings
     /// <summary>Parameter paths to fit (empty: the readout mode's bath occupancy and linewidth, plus the added noise for shots or variances).</summary>
     public ImmutableArray<string> Free { get; init; } = [];
 
+    /// <summary>Priors on parameters (their paths are freed if not listed in <see cref="Free"/>).</summary>
+    public ImmutableArray<FitPrior> Priors { get; init; } = [];
+
+    /// <summary>A readout calibration: data in measured units, converted to quanta with the gain's uncertainty carried.</summary>
+    public FitCalibration? Calibration { get; init; }
+
     /// <summary>Optimiser starts.</summary>
     public int Starts { get; init; } = 4;
 
