@@ -7,28 +7,25 @@ namespace Decohere.Reports;
 
 /// <summary>
 /// shots.parquet, streamed one row group per sampler batch: <c>shot, delay_s, time_s, mode, i, q, x, p</c>
-/// (x, p the true sampled quadratures, i, q with readout noise; quanta, zero-point variance ½). Uncompressed: random
-/// doubles do not compress, and the columns that do (the shot counter as deltas, delay, time and mode as one-entry
-/// dictionaries per row group) cost a few bytes per row group.
+/// (x, p the true sampled quadratures, i, q with readout noise; quanta, zero-point variance ½).
 /// </summary>
 public sealed class ShotsTable : IRunStream<ShotBatch>
 {
     /// <summary>The columns, in file order.</summary>
     public static readonly ColumnSpec[] Columns =
     [
-        ColumnSpec.Long("shot") with { Delta = true }, ColumnSpec.Double("delay_s") with { Dictionary = true },
-        ColumnSpec.Double("time_s") with { Dictionary = true }, ColumnSpec.String("mode"),
+        ColumnSpec.Long("shot"), ColumnSpec.Double("delay_s"), ColumnSpec.Double("time_s"), ColumnSpec.String("mode"),
         ColumnSpec.Double("i"), ColumnSpec.Double("q"), ColumnSpec.Double("x"), ColumnSpec.Double("p"),
     ];
 
-    private readonly ParquetTable _table;
+    private readonly PlainParquetWriter _table;
     private readonly ShotSampler _sampler;
     private long[] _shot = [];
-    // One-element arrays: the value on every row of the batch.
+    // One-element arrays: the value on every row of the batch (the writer stores them as a one-entry dictionary).
     private readonly double[] _delay = new double[1], _time = new double[1];
     private readonly string[] _mode;
 
-    private ShotsTable(ParquetTable table, ShotSampler sampler)
+    private ShotsTable(PlainParquetWriter table, ShotSampler sampler)
     {
         _table = table;
         _sampler = sampler;
@@ -36,7 +33,7 @@ public sealed class ShotsTable : IRunStream<ShotBatch>
     }
 
     /// <summary>Opens shots.parquet for the sampler's readout; commit with <see cref="CommitAsync"/>, or dispose to discard.</summary>
-    public static async Task<ShotsTable> CreateAsync(string path, ShotSampler sampler, Provenance metadata, CancellationToken cancel = default)
+    public static Task<ShotsTable> CreateAsync(string path, ShotSampler sampler, Provenance metadata, CancellationToken cancel = default)
     {
         cancel.ThrowIfCancellationRequested();
         var keys = new Dictionary<string, string>(metadata.ToKeyValues())
@@ -44,7 +41,7 @@ public sealed class ShotsTable : IRunStream<ShotBatch>
             ["decohere.readout_added_noise"] = sampler.Chain.AddedNoise.ToString("R", System.Globalization.CultureInfo.InvariantCulture),
             ["decohere.shots_per_delay"] = sampler.ShotsPerDelay.ToString(System.Globalization.CultureInfo.InvariantCulture),
         };
-        return new ShotsTable(await ParquetTable.CreateAsync(path, Columns, keys, cancel, ParquetCompression.None), sampler);
+        return Task.FromResult(new ShotsTable(new PlainParquetWriter(path, Columns, keys), sampler));
     }
 
     /// <summary>The sink to hand to <see cref="ShotSampler.RunAsync"/>.</summary>

@@ -1,0 +1,220 @@
+using System.Diagnostics;
+using System.Globalization;
+using System.Text;
+using Decohere.Analyses.Fitting;
+using Decohere.Analyses.Runs;
+using Decohere.Analyses.Sweeps;
+using Decohere.Core;
+using Decohere.Engine;
+using Decohere.IO;
+using Decohere.Reports;
+using Decohere.Sampling;
+using Decohere.Scenarios;
+
+namespace Decohere.Benchmarks;
+
+/// <summary>
+/// The figures a user waits for, each timed directly (one warm-up, then the median and best of several repetitions)
+/// and printed as one line: <c>dotnet run -c Release --project tools/Decohere.Benchmarks -- figures [NAME…]</c> with
+/// NAME among run, covariance, fit, sweep, shots (all by default). tools/reference/*.py do the same work in numpy/scipy.
+/// </summary>
+public static class Figures
+{
+    private static readonly Dictionary<string, Action<int>> All = new()
+    {
+        ["run"] = WholeRun,
+        ["covariance"] = CovarianceRows,
+        ["fit"] = Fit,
+        ["sweep"] = SweepGrid,
+        ["shots"] = Shots,
+    };
+
+    /// <summary>Runs the named figures (all when none are named) with <paramref name="args"/> such as <c>--repeat 5</c>.</summary>
+    public static int Run(string[] args)
+    {
+        int repeat = 5;
+        var names = new List<string>();
+        for (int k = 0; k < args.Length; k++)
+            if (args[k] == "--repeat") repeat = int.Parse(args[++k], CultureInfo.InvariantCulture);
+            else names.Add(args[k]);
+        foreach (var name in names.Count == 0 ? All.Keys.ToList() : names)
+        {
+            if (!All.TryGetValue(name, out var figure))
+            {
+                Console.Error.WriteLine($"unknown figure {name}; choose among {string.Join(", ", All.Keys)}");
+                return 2;
+            }
+            figure(repeat);
+        }
+        return 0;
+    }
+
+    private static string Temp(string name) => Path.Combine(Path.GetTempPath(), $"decohere-figures-{Environment.ProcessId}-{name}");
+
+    // One warm-up, then `repeat` timed calls: (median, best) seconds.
+    private static (double Median, double Best) Time(int repeat, Action body)
+    {
+        body();
+        var seconds = new double[repeat];
+        for (int k = 0; k < repeat; k++)
+        {
+            var watch = Stopwatch.StartNew();
+            body();
+            seconds[k] = watch.Elapsed.TotalSeconds;
+        }
+        Array.Sort(seconds);
+        return (seconds[repeat / 2], seconds[0]);
+    }
+
+    private static void Print(string figure, (double Median, double Best) t, string rate = "") =>
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"{figure,-48} median {t.Median * 1e3,9:F1} ms   best {t.Best * 1e3,9:F1} ms   {rate}"));
+
+    /// <summary>The demo with a 100,000-step covariance table (2 modes: 200,000 rows).</summary>
+    public static Scenario HundredThousandSteps()
+    {
+        var demo = ScenarioLoader.Demo();
+        return demo with { OutputStepS = demo.Stages.Sum(s => s.DurationS) / 100_000 };
+    }
+
+    /// <summary>Whole `run` of the demo (readout shots, estimates, plots, summary) on a 100,000-step table.</summary>
+    private static void WholeRun(int repeat)
+    {
+        var scenario = HundredThousandSteps();
+        string dir = Temp("run");
+        int rows = 0;
+        var t = Time(repeat, () =>
+        {
+            var files = new RunFiles(dir);
+            var result = RunAnalysis.SolveAsync(scenario, new RunSettings(), files).GetAwaiter().GetResult();
+            new RunReport().WriteAsync(result, dir).GetAwaiter().GetResult();
+            rows = result.Evolution.Times.Length * result.Evolution.ModeNames.Length;
+        });
+        Print($"run: demo, {rows:N0} covariance rows", t);
+        Directory.Delete(dir, recursive: true);
+    }
+
+    /// <summary>covariance.parquet alone from a computed evolution (the table, not the engine).</summary>
+    private static void CovarianceRows(int repeat)
+    {
+        var scenario = HundredThousandSteps();
+        var evolution = Evolution.Run(Dynamics.Solve(scenario));
+        string path = Temp("covariance.parquet");
+        int rows = evolution.Times.Length * evolution.ModeNames.Length;
+        var t = Time(repeat, () => CovarianceTable.WriteAsync(evolution, path, Provenance.For(scenario)).GetAwaiter().GetResult());
+        Print($"covariance.parquet: {rows:N0} rows", t, $"{rows / t.Median / 1e6:F2} M rows/s, {new FileInfo(path).Length / 1e6:F1} MB");
+        File.Delete(path);
+    }
+
+    /// <summary>The fit of <see cref="FitBenchmark"/>: 3 parameters, 40 delays × 10,000 shots read from CSV, with profiles.</summary>
+    private static void Fit(int repeat)
+    {
+        var bench = new FitBenchmark();
+        bench.Setup();
+        FitResult? fit = null;
+        var t = Time(repeat, () => fit = bench.ReadAndFit());
+        Print("fit: 3 parameters, 40 delays x 10,000 shots (CSV)", t,
+            string.Join(", ", fit!.Parameters.Select(p => string.Create(CultureInfo.InvariantCulture, $"{p.Name.Split('.')[^1]} {p.Value:G5}"))));
+        bench.Cleanup();
+    }
+
+    /// <summary>The sweep of <see cref="SweepSteadySqueezing"/>: 20 × 20 points of steady squeezing, in parallel, with its files.</summary>
+    private static void SweepGrid(int repeat)
+    {
+        var bench = new SweepSteadySqueezing();
+        bench.Setup();
+        var t = Time(repeat, () => bench.Run().GetAwaiter().GetResult());
+        Print("sweep: 20 x 20 steady squeezing", t, $"{400 / t.Median:F0} points/s");
+        bench.Cleanup();
+    }
+
+    /// <summary>
+    /// Shots written per second: the writers alone on prepared batches of the sampler's size (the hand-made plain writer
+    /// shots.parquet uses, and ParquetSharp uncompressed, Snappy and Zstandard with the same encodings), then sampling and
+    /// writing together. A sample is one of i, q (two per shot). Rates per wall second and per CPU second (on a shared
+    /// machine the second is the steadier).
+    /// </summary>
+    private static void Shots(int repeat)
+    {
+        const int shots = 10_000_000;
+        var scenario = ScenarioLoader.Demo();
+        var dynamics = Dynamics.Solve(scenario);
+        var sampler = new ShotSampler(scenario with { Readout = scenario.Readout! with { DelaysS = [0.001] } }, dynamics, shotsPerDelay: shots);
+        var batch = new ShotBatch(SamplerSettings.Default.BatchShots);
+        var random = new Numerics.RandomStream(7);
+        random.FillNormal(batch.I); random.FillNormal(batch.Q); random.FillNormal(batch.X); random.FillNormal(batch.P);
+        string path = Temp("shots.parquet");
+        (string Name, Func<Task> Write)[] writers =
+        [
+            ("plain writer (shots.parquet)", () => WritePlain(path, batch, shots)),
+            .. new[] { ParquetCompression.None, ParquetCompression.Snappy, ParquetCompression.Zstd }
+                .Select(c => ($"ParquetSharp, {c}", (Func<Task>)(() => WriteShots(path, batch, shots, c)))),
+        ];
+        foreach (var (name, write) in writers)
+        {
+            var (t, cpu) = TimeWithCpu(repeat, () => write().GetAwaiter().GetResult());
+            Print($"shots writer alone: {name}", t,
+                $"{2.0 * shots / t.Median / 1e6:F1} M samples/s ({2.0 * shots / cpu / 1e6:F1} per CPU s), {new FileInfo(path).Length / (double)shots:F2} bytes/shot");
+        }
+        var (whole, wholeCpu) = TimeWithCpu(repeat, () => SampleShots(path, sampler, Provenance.For(scenario)).GetAwaiter().GetResult());
+        Print("shots: sampled and written (ShotsTable)", whole, $"{2.0 * shots / whole.Median / 1e6:F1} M samples/s ({2.0 * shots / wholeCpu / 1e6:F1} per CPU s)");
+        File.Delete(path);
+    }
+
+    // Time plus the median CPU seconds of the process per call.
+    private static ((double Median, double Best) Time, double Cpu) TimeWithCpu(int repeat, Action body)
+    {
+        var cpu = new List<double>();
+        var t = Time(repeat, () =>
+        {
+            var start = Process.GetCurrentProcess().TotalProcessorTime;
+            body();
+            cpu.Add((Process.GetCurrentProcess().TotalProcessorTime - start).TotalSeconds);
+        });
+        cpu.RemoveAt(0);
+        cpu.Sort();
+        return (t, cpu[cpu.Count / 2]);
+    }
+
+    private static async Task SampleShots(string path, ShotSampler sampler, Provenance provenance)
+    {
+        await using var table = await ShotsTable.CreateAsync(path, sampler, provenance);
+        await sampler.RunAsync(table.WriteAsync);
+        await table.CommitAsync();
+    }
+
+    private static async Task WritePlain(string path, ShotBatch batch, int shots)
+    {
+        int n = batch.I.Length;
+        var shot = new long[n];
+        await using var table = new PlainParquetWriter(path, ShotsTable.Columns, new Dictionary<string, string>());
+        for (int first = 0; first < shots; first += n)
+        {
+            int rows = Math.Min(n, shots - first);
+            for (int k = 0; k < rows; k++) shot[k] = first + k;
+            table.WriteRowGroup(rows, [shot, new[] { 0.001 }, new[] { 0.002 }, new[] { "drum" }, batch.I, batch.Q, batch.X, batch.P]);
+        }
+        await table.CommitAsync();
+    }
+
+    // The columns of shots.parquet from one prepared batch, repeated, through ParquetSharp: the shot counter as deltas,
+    // the constant columns as dictionaries (the sizes of the plain writer's file), the compression under test.
+    private static async Task WriteShots(string path, ShotBatch batch, int shots, ParquetCompression compression)
+    {
+        int n = batch.I.Length;
+        var shot = new long[n];
+        ColumnSpec[] columns =
+        [
+            ColumnSpec.Long("shot") with { Delta = true }, ColumnSpec.Double("delay_s") with { Dictionary = true },
+            ColumnSpec.Double("time_s") with { Dictionary = true }, ColumnSpec.String("mode"), .. ShotsTable.Columns[4..],
+        ];
+        await using var table = await ParquetTable.CreateAsync(path, columns, new Dictionary<string, string>(), default, compression);
+        for (int first = 0; first < shots; first += n)
+        {
+            int rows = Math.Min(n, shots - first);
+            for (int k = 0; k < rows; k++) shot[k] = first + k;
+            table.WriteRowGroup(rows, [shot, new[] { 0.001 }, new[] { 0.002 }, new[] { "drum" }, batch.I, batch.Q, batch.X, batch.P]);
+        }
+        await table.CommitAsync();
+    }
+}
