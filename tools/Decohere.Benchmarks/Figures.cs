@@ -51,24 +51,35 @@ public static class Figures
 
     private static string Temp(string name) => Path.Combine(Path.GetTempPath(), $"decohere-figures-{Environment.ProcessId}-{name}");
 
-    // One warm-up, then `repeat` timed calls: (median, best) seconds.
-    private static (double Median, double Best) Time(int repeat, Action body)
+    /// <summary>Wall seconds (median and best of the repetitions) and the median CPU seconds of the process per call.</summary>
+    private readonly record struct Timing(double Median, double Best, double Cpu);
+
+    // One warm-up, then `repeat` timed calls. On a machine shared with other work the CPU time is the steadier figure
+    // (it leaves out waiting for a core, not the threads the call itself runs).
+    private static Timing Time(int repeat, Action body)
     {
         body();
-        var seconds = new double[repeat];
+        var wall = new double[repeat];
+        var cpu = new double[repeat];
+        using var process = Process.GetCurrentProcess();
         for (int k = 0; k < repeat; k++)
         {
+            process.Refresh();
+            var cpu0 = process.TotalProcessorTime;
             var watch = Stopwatch.StartNew();
             body();
-            seconds[k] = watch.Elapsed.TotalSeconds;
+            wall[k] = watch.Elapsed.TotalSeconds;
+            process.Refresh();
+            cpu[k] = (process.TotalProcessorTime - cpu0).TotalSeconds;
         }
-        Array.Sort(seconds);
-        return (seconds[repeat / 2], seconds[0]);
+        Array.Sort(wall);
+        Array.Sort(cpu);
+        return new Timing(wall[repeat / 2], wall[0], cpu[repeat / 2]);
     }
 
-    private static void Print(string figure, (double Median, double Best) t, string rate = "") =>
+    private static void Print(string figure, Timing t, string rate = "") =>
         Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-            $"{figure,-48} median {t.Median * 1e3,9:F1} ms   best {t.Best * 1e3,9:F1} ms   {rate}"));
+            $"{figure,-50} median {t.Median * 1e3,8:F1} ms  best {t.Best * 1e3,8:F1} ms  cpu {t.Cpu * 1e3,8:F1} ms  {rate}"));
 
     /// <summary>The demo with a 100,000-step covariance table (2 modes: 200,000 rows).</summary>
     public static Scenario HundredThousandSteps()
@@ -94,7 +105,10 @@ public static class Figures
         Directory.Delete(dir, recursive: true);
     }
 
-    /// <summary>covariance.parquet alone from a computed evolution (the table, not the engine).</summary>
+    /// <summary>
+    /// covariance.parquet alone from a computed evolution (the table, not the engine), then the same columns through each
+    /// codec: whether compression pays for a table of smooth doubles.
+    /// </summary>
     private static void CovarianceRows(int repeat)
     {
         var scenario = HundredThousandSteps();
@@ -102,7 +116,22 @@ public static class Figures
         string path = Temp("covariance.parquet");
         int rows = evolution.Times.Length * evolution.ModeNames.Length;
         var t = Time(repeat, () => CovarianceTable.WriteAsync(evolution, path, Provenance.For(scenario)).GetAwaiter().GetResult());
-        Print($"covariance.parquet: {rows:N0} rows", t, $"{rows / t.Median / 1e6:F2} M rows/s, {new FileInfo(path).Length / 1e6:F1} MB");
+        Print($"covariance.parquet: {rows:N0} rows", t, $"{rows / t.Median / 1e6:F2} M rows/s ({rows / t.Cpu / 1e6:F2} per CPU s), {new FileInfo(path).Length / 1e6:F2} MB");
+        var stages = scenario.Stages.Select(s => s.Name).ToArray();
+        Array[] data =
+        [
+            Enumerable.Range(0, rows).Select(r => evolution.Times[r / 2]).ToArray(),
+            Enumerable.Range(0, rows).Select(r => stages[evolution.StageOfTime[r / 2]]).ToArray(),
+            Enumerable.Range(0, rows).Select(r => evolution.ModeNames[r % 2]).ToArray(),
+            .. new Func<ModeMoments, double>[] { m => m.VarX, m => m.VarP, m => m.CovXP, m => m.VarMin, m => m.VarMax, m => m.AngleRad, m => m.Occupancy, m => m.SqueezingDb }
+                .Select(f => Enumerable.Range(0, rows).Select(r => f(evolution.Moments[r / 2, r % 2])).ToArray()),
+        ];
+        foreach (var codec in new[] { ParquetCompression.None, ParquetCompression.Snappy, ParquetCompression.Zstd })
+        {
+            var c = Time(repeat, () => ParquetTable.WriteAsync(path, CovarianceTable.Columns, data, new Dictionary<string, string>(),
+                rowGroup: CovarianceTable.GroupTimes * 2, compression: codec).GetAwaiter().GetResult());
+            Print($"  same columns, {codec}", c, $"{rows / c.Median / 1e6:F2} M rows/s ({rows / c.Cpu / 1e6:F2} per CPU s), {new FileInfo(path).Length / 1e6:F2} MB");
+        }
         File.Delete(path);
     }
 
@@ -152,28 +181,13 @@ public static class Figures
         ];
         foreach (var (name, write) in writers)
         {
-            var (t, cpu) = TimeWithCpu(repeat, () => write().GetAwaiter().GetResult());
+            var t = Time(repeat, () => write().GetAwaiter().GetResult());
             Print($"shots writer alone: {name}", t,
-                $"{2.0 * shots / t.Median / 1e6:F1} M samples/s ({2.0 * shots / cpu / 1e6:F1} per CPU s), {new FileInfo(path).Length / (double)shots:F2} bytes/shot");
+                $"{2.0 * shots / t.Median / 1e6:F1} M samples/s ({2.0 * shots / t.Cpu / 1e6:F1} per CPU s), {new FileInfo(path).Length / (double)shots:F2} bytes/shot");
         }
-        var (whole, wholeCpu) = TimeWithCpu(repeat, () => SampleShots(path, sampler, Provenance.For(scenario)).GetAwaiter().GetResult());
-        Print("shots: sampled and written (ShotsTable)", whole, $"{2.0 * shots / whole.Median / 1e6:F1} M samples/s ({2.0 * shots / wholeCpu / 1e6:F1} per CPU s)");
+        var whole = Time(repeat, () => SampleShots(path, sampler, Provenance.For(scenario)).GetAwaiter().GetResult());
+        Print("shots: sampled and written (ShotsTable)", whole, $"{2.0 * shots / whole.Median / 1e6:F1} M samples/s ({2.0 * shots / whole.Cpu / 1e6:F1} per CPU s)");
         File.Delete(path);
-    }
-
-    // Time plus the median CPU seconds of the process per call.
-    private static ((double Median, double Best) Time, double Cpu) TimeWithCpu(int repeat, Action body)
-    {
-        var cpu = new List<double>();
-        var t = Time(repeat, () =>
-        {
-            var start = Process.GetCurrentProcess().TotalProcessorTime;
-            body();
-            cpu.Add((Process.GetCurrentProcess().TotalProcessorTime - start).TotalSeconds);
-        });
-        cpu.RemoveAt(0);
-        cpu.Sort();
-        return (t, cpu[cpu.Count / 2]);
     }
 
     private static async Task SampleShots(string path, ShotSampler sampler, Provenance provenance)

@@ -8,9 +8,13 @@ namespace Decohere.IO;
 /// A column of a table to write: name (with its unit, e.g. time_s) and CLR element type. <see cref="Dictionary"/> stores
 /// the column as a dictionary of its distinct values (on by default for text; for numbers that repeat, such as a delay
 /// constant over a row group); <see cref="Delta"/> stores an int64 column as differences (a counter costs a few bits per row).
+/// A text column with <see cref="Categories"/> may be given as int[] indices into them (no per-row text encoding).
 /// </summary>
 public sealed record ColumnSpec(string Name, Type Type)
 {
+    /// <summary>The values a text column takes, for rows given as indices into this list.</summary>
+    public IReadOnlyList<string>? Categories { get; init; }
+
     /// <summary>Dictionary encoding (falls back to plain when the distinct values pass 1 MiB per row group).</summary>
     public bool Dictionary { get; init; } = Type == typeof(string);
 
@@ -66,11 +70,33 @@ public sealed class ParquetTable : IAsyncDisposable
     private byte[] _text = [];
     private ByteArray[] _strings = [];
 
+    // Per text column with categories: their UTF-8 bytes, in one array that the garbage collector never moves.
+    private readonly ByteArray[]?[] _categories;
+    private readonly byte[][] _categoryBytes;
+
     private ParquetTable(AtomicFile file, ParquetFileWriter writer, ColumnSpec[] columns)
     {
         _file = file;
         _writer = writer;
         _columns = columns;
+        _categories = new ByteArray[]?[columns.Length];
+        _categoryBytes = new byte[columns.Length][];
+        for (int c = 0; c < columns.Length; c++)
+        {
+            if (columns[c].Categories is not { } values) continue;
+            var bytes = _categoryBytes[c] = GC.AllocateArray<byte>(values.Sum(v => System.Text.Encoding.UTF8.GetByteCount(v)) + 1, pinned: true);
+            var arrays = _categories[c] = new ByteArray[values.Count];
+            unsafe
+            {
+                byte* start = (byte*)System.Runtime.CompilerServices.Unsafe.AsPointer(ref bytes[0]);
+                for (int k = 0, at = 0; k < values.Count; k++)
+                {
+                    int length = System.Text.Encoding.UTF8.GetBytes(values[k], bytes.AsSpan(at));
+                    arrays[k] = new ByteArray((IntPtr)(start + at), length);
+                    at += length;
+                }
+            }
+        }
     }
 
     /// <summary>Total rows written so far.</summary>
@@ -93,6 +119,8 @@ public sealed class ParquetTable : IAsyncDisposable
                 throw new ArgumentException($"column {c.Name}: {c.Type.Name} is not supported (double, double?, long, int, bool, string)", nameof(columns));
             if (c.Delta && c.Type != typeof(long))
                 throw new ArgumentException($"column {c.Name}: delta encoding is for int64 columns", nameof(columns));
+            if (c.Categories is not null && c.Type != typeof(string))
+                throw new ArgumentException($"column {c.Name}: categories are for text columns", nameof(columns));
         }
         var file = new AtomicFile(path);
         try
@@ -195,6 +223,7 @@ public sealed class ParquetTable : IAsyncDisposable
                 case bool[] b when spec.Type == typeof(bool): ((ColumnWriter<bool>)column).WriteBatch(Span(b, from, rows, ref _bools)); break;
                 case string[] s when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, s.Length == 1, k => s[from + k].AsSpan()); break;
                 case ReadOnlyMemory<char>[] m when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, m.Length == 1, k => m[from + k].Span); break;
+                case int[] k when _categories[c] is { } categories: WriteCategories((ColumnWriter<ByteArray>)column, categories, Span(k, from, rows, ref _ints), spec.Name); break;
                 default:
                     throw new ArgumentException($"column {spec.Name} ({spec.Type.Name}): unsupported array type {data.GetType().Name}", nameof(columns));
             }
@@ -275,6 +304,18 @@ public sealed class ParquetTable : IAsyncDisposable
     }
 
     private delegate ReadOnlySpan<char> SpanGetter(int index);
+
+    private void WriteCategories(ColumnWriter<ByteArray> column, ByteArray[] categories, ReadOnlySpan<int> indices, string name)
+    {
+        if (_strings.Length < indices.Length) _strings = new ByteArray[indices.Length];
+        for (int r = 0; r < indices.Length; r++)
+        {
+            if ((uint)indices[r] >= (uint)categories.Length)
+                throw new ArgumentException($"column {name}: category {indices[r]} of {categories.Length}", nameof(indices));
+            _strings[r] = categories[indices[r]];
+        }
+        column.WriteBatch(_strings.AsSpan(0, indices.Length));
+    }
 
     /// <summary>Finishes the file and moves it to its final name.</summary>
     public Task CommitAsync()

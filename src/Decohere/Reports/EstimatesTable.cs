@@ -8,7 +8,8 @@ namespace Decohere.Reports;
 /// <summary>
 /// estimates.parquet: one row per readout delay with the sample moments of (i, q), the added noise subtracted, and for each
 /// inferred quantity Q ∈ {var_x, var_p, cov_xp, var_min, var_max, occupancy, squeezing_db} the columns Q, Q_low, Q_high
-/// (two-sided interval), Q_model (covariance engine) and Q_z ((Q − Q_model)/σ).
+/// (two-sided interval), Q_model (covariance engine) and Q_z ((Q − Q_model)/σ); these are null where undefined (the
+/// squeezing of a non-positive var_min, a z without a prediction).
 /// </summary>
 public static class EstimatesTable
 {
@@ -23,27 +24,26 @@ public static class EstimatesTable
         ColumnSpec.Double("cov_iq"), ColumnSpec.Double("added_noise"), ColumnSpec.Double("confidence"),
         .. Quantities.SelectMany(q => new[]
         {
-            ColumnSpec.Double(q), ColumnSpec.Double(q + "_low"), ColumnSpec.Double(q + "_high"),
-            ColumnSpec.Double(q + "_model"), ColumnSpec.Double(q + "_z"),
+            ColumnSpec.NullableDouble(q), ColumnSpec.NullableDouble(q + "_low"), ColumnSpec.NullableDouble(q + "_high"),
+            ColumnSpec.NullableDouble(q + "_model"), ColumnSpec.NullableDouble(q + "_z"),
         }),
     ];
 
     /// <summary>The estimates of a delay in <see cref="Quantities"/> order.</summary>
     public static Estimate[] Row(ReadoutEstimate e) => [e.VarX, e.VarP, e.CovXP, e.VarMin, e.VarMax, e.Occupancy, e.SqueezingDb];
 
-    /// <summary>Writes the table atomically.</summary>
+    /// <summary>Writes the table atomically (NaN and ±∞ in the quantity columns become null).</summary>
     public static Task WriteAsync(string path, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, double confidence,
         Provenance metadata, CancellationToken cancel = default)
     {
-        int rows = estimates.Count;
         var data = new List<Array>
         {
             sampler.Delays.Select(d => d.DelayS).ToArray(), sampler.Delays.Select(d => d.TimeS).ToArray(),
-            Enumerable.Repeat(sampler.Chain.Mode, rows).ToArray(), estimates.Select(e => e.Shots).ToArray(),
+            new[] { sampler.Chain.Mode }, estimates.Select(e => e.Shots).ToArray(),
             estimates.Select(e => e.MeanI).ToArray(), estimates.Select(e => e.MeanQ).ToArray(),
             estimates.Select(e => e.VarI).ToArray(), estimates.Select(e => e.VarQ).ToArray(),
             estimates.Select(e => e.CovIQ).ToArray(), estimates.Select(e => e.AddedNoise).ToArray(),
-            Enumerable.Repeat(confidence, rows).ToArray(),
+            new[] { confidence },
         };
         for (int q = 0; q < Quantities.Length; q++)
         {

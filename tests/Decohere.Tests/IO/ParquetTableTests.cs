@@ -105,6 +105,22 @@ public class ParquetTableTests
     }
 
     [Fact]
+    public async Task TextGivenAsCategoryIndicesReadsAsText()
+    {
+        string dir = TestPaths.NewTempDirectory();
+        string path = Path.Combine(dir, "t.parquet");
+        var stage = ColumnSpec.String("stage") with { Categories = ["cool", "squeeze", "relâche"] };
+        await ParquetTable.WriteAsync(path, [stage, ColumnSpec.Long("k")], [new[] { 2, 0, 1, 1, 2 }, new long[] { 0, 1, 2, 3, 4 }],
+            new Dictionary<string, string>());
+        var rows = DuckDb.Query($"SELECT stage FROM read_parquet({DuckDb.Literal(path)}) ORDER BY k");
+        Assert.Equal(["relâche", "cool", "squeeze", "squeeze", "relâche"], rows.Select(r => (string)r[0]!));
+
+        await Assert.ThrowsAsync<ArgumentException>(() => ParquetTable.WriteAsync(Path.Combine(dir, "u.parquet"), [stage], [new[] { 3 }],
+            new Dictionary<string, string>()));
+        Assert.False(File.Exists(Path.Combine(dir, "u.parquet")));
+    }
+
+    [Fact]
     public async Task AnEmptyTableHasItsSchema()
     {
         string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
