@@ -56,7 +56,7 @@ public static class ReadoutSummary
                     ["high"] = SummaryJson.Number(values[q].High), ["model"] = SummaryJson.Number(values[q].Model),
                     ["z"] = SummaryJson.Number(values[q].Z),
                 };
-            delays.Add(row);
+            delays.Add((JsonNode)row);
         }
         json["estimates"] = delays;
         return json;
