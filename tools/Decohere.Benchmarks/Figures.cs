@@ -115,6 +115,8 @@ public static class Figures
         var evolution = Evolution.Run(Dynamics.Solve(scenario));
         string path = Temp("covariance.parquet");
         int rows = evolution.Times.Length * evolution.ModeNames.Length;
+        var engine = Time(repeat, () => CovarianceTable.WriteAsync(Evolution.Run(Dynamics.Solve(scenario)), path, Provenance.For(scenario)).GetAwaiter().GetResult());
+        Print($"covariance: engine + table, {rows:N0} rows", engine, $"{rows / engine.Median / 1e6:F2} M rows/s ({rows / engine.Cpu / 1e6:F2} per CPU s)");
         var t = Time(repeat, () => CovarianceTable.WriteAsync(evolution, path, Provenance.For(scenario)).GetAwaiter().GetResult());
         Print($"covariance.parquet: {rows:N0} rows", t, $"{rows / t.Median / 1e6:F2} M rows/s ({rows / t.Cpu / 1e6:F2} per CPU s), {new FileInfo(path).Length / 1e6:F2} MB");
         var stages = scenario.Stages.Select(s => s.Name).ToArray();
