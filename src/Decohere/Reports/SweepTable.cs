@@ -140,8 +140,9 @@ public static partial class SweepTable
             done += (int)read;
             defined += (int)count;
         }
+        // Every row defined (always so in a REQUIRED column, whose levels the reader leaves unwritten), or by its level.
         for (int r = 0, v = 0; r < rows; r++)
-            result[r] = levels[r] > 0 ? values[v++] : null;
+            result[r] = defined == rows || levels[r] > 0 ? values[v++] : null;
         return result;
     }
 
