@@ -1,6 +1,5 @@
 using System.Diagnostics;
 using System.Globalization;
-using System.Text;
 using Decohere.Analyses.Fitting;
 using Decohere.Analyses.Runs;
 using Decohere.Analyses.Sweeps;
@@ -106,7 +105,8 @@ public static class Figures
     }
 
     /// <summary>
-    /// covariance.parquet alone from a computed evolution (the table, not the engine), then the same columns through each
+    /// The demo's covariance on a 100,000-step grid, engine and covariance.parquet together (the work of
+    /// tools/reference/run_covariance.py), the table alone from a computed evolution, then the same columns through each
     /// codec: whether compression pays for a table of smooth doubles.
     /// </summary>
     private static void CovarianceRows(int repeat)
