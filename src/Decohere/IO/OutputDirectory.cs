@@ -97,7 +97,7 @@ public sealed class OutputDirectory
         {
             var file = new FileInfo(System.IO.Path.GetFullPath(path));
             if (!file.Exists || !string.Equals(file.DirectoryName, Path, StringComparison.Ordinal)) continue;
-            files.Add(new JsonObject { ["name"] = file.Name, ["bytes"] = file.Length });
+            files.Add((JsonNode)new JsonObject { ["name"] = file.Name, ["bytes"] = file.Length });
         }
         UpdateManifest(new JsonObject
         {

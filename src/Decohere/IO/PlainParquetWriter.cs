@@ -11,7 +11,10 @@ namespace Decohere.IO;
 /// no compression, one data page per column chunk, and the footer in the Thrift compact protocol (Apache
 /// Parquet format specification, parquet-format 2.x, "File format" and "Data pages"; Apache Thrift compact protocol
 /// specification). Writing is a copy of the column arrays, which a general writer's per-value encoding cannot match:
-/// shots.parquet carries tens of millions of rows per second. Committed atomically like <see cref="ParquetTable"/>.
+/// measured on prepared batches (tools/Decohere.Benchmarks, figure <c>shots</c>), this writer put down 51 M samples/s
+/// (109 M per CPU second) where ParquetSharp's column writers, with the same encodings, managed 13 M (21 M per CPU second;
+/// Snappy and Zstandard were slower still and saved at most 4% on random doubles). It serves shots.parquet alone; every
+/// other table goes through <see cref="ParquetTable"/>. Committed atomically like <see cref="ParquetTable"/>.
 /// </summary>
 public sealed class PlainParquetWriter : IAsyncDisposable
 {

@@ -16,33 +16,46 @@ public static class CovarianceTable
         ColumnSpec.Double("occupancy"), ColumnSpec.Double("squeezing_db"),
     ];
 
-    /// <summary>Writes the table atomically to <paramref name="path"/>.</summary>
+    /// <summary>Output times per row group (times × modes rows); fixed, so equal evolutions give equal files.</summary>
+    public const int GroupTimes = 1 << 16;
+
+    /// <summary>
+    /// Writes the table atomically to <paramref name="path"/>, one row group at a time from columns allocated once: stage
+    /// and mode go down as indices into their names, so no row costs an allocation or a text conversion.
+    /// </summary>
     public static async Task WriteAsync(Evolution evolution, string path, Provenance metadata, CancellationToken cancel = default)
     {
         int times = evolution.Times.Length, modes = evolution.ModeNames.Length;
-        const int groupTimes = 1 << 16;
-        var stageNames = evolution.Dynamics.Scenario.Stages.Select(s => s.Name).ToArray();
-        await using var table = await ParquetTable.CreateAsync(path, Columns, metadata.ToKeyValues(), cancel);
-        for (int start = 0; start < times; start += groupTimes)
+        ColumnSpec[] columns =
+        [
+            Columns[0], Columns[1] with { Categories = [.. evolution.Dynamics.Scenario.Stages.Select(s => s.Name)] },
+            Columns[2] with { Categories = evolution.ModeNames }, .. Columns[3..],
+        ];
+        int capacity = Math.Min(times, GroupTimes) * modes;
+        var t = new double[capacity];
+        var stage = new int[capacity];
+        var mode = new int[capacity];
+        var values = new double[8][];
+        for (int c = 0; c < values.Length; c++) values[c] = new double[capacity];
+        Array[] group = [t, stage, mode, .. values];
+        await using var table = await ParquetTable.CreateAsync(path, columns, metadata.ToKeyValues(), cancel);
+        for (int start = 0; start < times; start += GroupTimes)
         {
-            int count = Math.Min(groupTimes, times - start), rows = count * modes;
-            var t = new double[rows];
-            var stage = new string[rows];
-            var mode = new string[rows];
-            var cols = Enumerable.Range(0, 8).Select(_ => new double[rows]).ToArray();
+            cancel.ThrowIfCancellationRequested();
+            int count = Math.Min(GroupTimes, times - start);
             int r = 0;
             for (int k = start; k < start + count; k++)
                 for (int j = 0; j < modes; j++, r++)
                 {
                     var m = evolution.Moments[k, j];
                     t[r] = evolution.Times[k];
-                    stage[r] = stageNames[evolution.StageOfTime[k]];
-                    mode[r] = evolution.ModeNames[j];
-                    cols[0][r] = m.VarX; cols[1][r] = m.VarP; cols[2][r] = m.CovXP;
-                    cols[3][r] = m.VarMin; cols[4][r] = m.VarMax; cols[5][r] = m.AngleRad;
-                    cols[6][r] = m.Occupancy; cols[7][r] = m.SqueezingDb;
+                    stage[r] = evolution.StageOfTime[k];
+                    mode[r] = j;
+                    values[0][r] = m.VarX; values[1][r] = m.VarP; values[2][r] = m.CovXP;
+                    values[3][r] = m.VarMin; values[4][r] = m.VarMax; values[5][r] = m.AngleRad;
+                    values[6][r] = m.Occupancy; values[7][r] = m.SqueezingDb;
                 }
-            await table.WriteRowGroupAsync(rows, [t, stage, mode, .. cols], cancel);
+            table.WriteRowGroup(r, group);
         }
         await table.CommitAsync();
     }

@@ -36,19 +36,18 @@ public static class EstimatesTable
 
     private static double? Finite(double v) => double.IsFinite(v) ? v : null;
 
-    /// <summary>Writes the table atomically.</summary>
+    /// <summary>Writes the table atomically (NaN and ±∞ in the quantity columns become null).</summary>
     public static Task WriteAsync(string path, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, double confidence,
         Provenance metadata, CancellationToken cancel = default)
     {
-        int rows = estimates.Count;
         var data = new List<Array>
         {
             sampler.Delays.Select(d => d.DelayS).ToArray(), sampler.Delays.Select(d => d.TimeS).ToArray(),
-            Enumerable.Repeat(sampler.Chain.Mode, rows).ToArray(), estimates.Select(e => e.Shots).ToArray(),
+            new[] { sampler.Chain.Mode }, estimates.Select(e => e.Shots).ToArray(),
             estimates.Select(e => e.MeanI).ToArray(), estimates.Select(e => e.MeanQ).ToArray(),
             estimates.Select(e => e.VarI).ToArray(), estimates.Select(e => e.VarQ).ToArray(),
             estimates.Select(e => e.CovIQ).ToArray(), estimates.Select(e => e.AddedNoise).ToArray(),
-            Enumerable.Repeat(confidence, rows).ToArray(),
+            new[] { confidence },
         };
         for (int q = 0; q < Quantities.Length; q++)
         {

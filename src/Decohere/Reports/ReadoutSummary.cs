@@ -52,7 +52,7 @@ public static class ReadoutSummary
             for (int q = 0; q < values.Length; q++)
                 row[EstimatesTable.Quantities[q]] = EstimateJson(values[q], e);
             row["uncertainty_violated"] = e.ViolatesUncertainty;
-            delays.Add(row);
+            delays.Add((JsonNode)row);
         }
         json["estimates"] = delays;
         return json;

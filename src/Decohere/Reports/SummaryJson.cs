@@ -137,7 +137,7 @@ public static class SummaryJson
                     ["var_min_bad_cavity"] = Number(t.VarMinBadCavity), ["squeezing_db_bad_cavity"] = Number(t.SqueezingDbBadCavity),
                     ["var_min_cavity_kept"] = Number(t.VarMinCavityKept), ["squeezing_db_cavity_kept"] = Number(t.SqueezingDbCavityKept),
                 }).ToArray());
-            stages.Add(stage);
+            stages.Add((JsonNode)stage);
         }
         root["stages"] = stages;
         root["warnings"] = new JsonArray(report.Warnings.Select(w => (JsonNode)JsonValue.Create(w)).ToArray());

@@ -1,4 +1,4 @@
-using Parquet;
+using ParquetSharp;
 using System.Text.RegularExpressions;
 using Decohere.Analyses.Sweeps;
 using Decohere.Core;
@@ -72,62 +72,119 @@ public static partial class SweepTable
 
     /// <summary>Reads the footer metadata only (cheap: no column data).</summary>
     /// <exception cref="InputException">Not a Parquet file, or one without a sweep description.</exception>
-    public static async Task<IReadOnlyDictionary<string, string>> ReadMetadataAsync(string path, CancellationToken cancel = default)
-    {
-        await using var stream = File.OpenRead(path);
-        await using var reader = await Open(path, stream, cancel);
-        return Check(path, reader);
-    }
+    public static Task<IReadOnlyDictionary<string, string>> ReadMetadataAsync(string path, CancellationToken cancel = default) =>
+        Task.Run(() => Read(path, file => Check(path, file)), cancel);
 
     /// <summary>Reads a sweep file written by <see cref="WriteAsync"/>.</summary>
     /// <exception cref="InputException">Not a sweep file, or columns that do not match its description.</exception>
-    public static async Task<SweepPart> ReadAsync(string path, CancellationToken cancel = default)
+    public static Task<SweepPart> ReadAsync(string path, CancellationToken cancel = default) => Task.Run(() => Read(path, file =>
     {
-        await using var stream = File.OpenRead(path);
-        await using var reader = await Open(path, stream, cancel);
-        var metadata = Check(path, reader);
+        var metadata = Check(path, file);
         var description = SweepDescription.FromJson(metadata[Sweep.MetadataKey], path);
-        var expected = Columns(description).Select(c => c.Name).ToArray();
-        var fields = reader.Schema.GetDataFields();
-        if (!fields.Select(f => f.Name).SequenceEqual(expected))
-            throw new InputException($"{path}: columns [{string.Join(", ", fields.Select(f => f.Name))}] do not match its sweep description [{string.Join(", ", expected)}]");
+        var expected = Columns(description);
+        var schema = file.FileMetaData.Schema;
+        var names = Enumerable.Range(0, schema.NumColumns).Select(c => schema.Column(c).Name).ToArray();
+        bool matches = names.SequenceEqual(expected.Select(c => c.Name)) && Enumerable.Range(0, names.Length).All(c =>
+            schema.Column(c).PhysicalType == Physical(expected[c].Type) && schema.Column(c).MaxRepetitionLevel == 0);
+        if (!matches)
+            throw new InputException($"{path}: columns [{string.Join(", ", names)}] do not match its sweep description [{string.Join(", ", expected.Select(c => c.Name))}]");
         int parameters = description.Axes.Length, metrics = description.Metrics.Length;
         var rows = new List<SweepRow>();
-        for (int g = 0; g < reader.RowGroupCount; g++)
+        for (int g = 0; g < file.FileMetaData.NumRowGroups; g++)
         {
-            using var group = reader.OpenRowGroupReader(g);
-            int n = checked((int)group.RowCount);
-            var point = new long[n];
-            var seed = new long[n];
-            var p = Enumerable.Range(0, parameters).Select(_ => new double[n]).ToArray();
-            var m = Enumerable.Range(0, metrics).Select(_ => new double?[n]).ToArray();
-            var error = new string?[n];
-            await group.ReadAsync<long>(fields[0], point.AsMemory(), cancellationToken: cancel);
-            await group.ReadAsync<long>(fields[1], seed.AsMemory(), cancellationToken: cancel);
-            for (int a = 0; a < parameters; a++) await group.ReadAsync<double>(fields[2 + a], p[a].AsMemory(), cancellationToken: cancel);
-            for (int k = 0; k < metrics; k++) await group.ReadAsync<double>(fields[2 + parameters + k], m[k].AsMemory(), cancellationToken: cancel);
-            await group.ReadAsync(fields[^1], error.AsMemory(), cancellationToken: cancel);
+            cancel.ThrowIfCancellationRequested();
+            using var group = file.RowGroup(g);
+            int n = checked((int)group.MetaData.NumRows);
+            var point = Numbers<long>(group, 0, n, path);
+            var seed = Numbers<long>(group, 1, n, path);
+            var p = Enumerable.Range(0, parameters).Select(a => Numbers<double>(group, 2 + a, n, path)).ToArray();
+            var m = Enumerable.Range(0, metrics).Select(k => Optional(group, 2 + parameters + k, n, path)).ToArray();
+            var error = Texts(group, 2 + parameters + metrics, n, path);
             for (int i = 0; i < n; i++)
-                rows.Add(new SweepRow(point[i], seed[i], [.. p.Select(c => c[i])], [.. m.Select(c => c[i])], error[i] ?? ""));
+                rows.Add(new SweepRow(point[i], seed[i], [.. p.Select(c => c[i])], [.. m.Select(c => c[i])], error[i]));
         }
         return new SweepPart(path, metadata, description, rows);
+    }), cancel);
+
+    private static PhysicalType Physical(Type t) =>
+        t == typeof(long) ? PhysicalType.Int64 : t == typeof(string) ? PhysicalType.ByteArray : PhysicalType.Double;
+
+    // Through ParquetSharp's physical column readers (no reflection over logical types): definition levels say where a
+    // value is null; a required column has none.
+    private static T[] Numbers<T>(RowGroupReader group, int column, int rows, string path) where T : unmanaged
+    {
+        using var reader = (ColumnReader<T>)group.Column(column);
+        var values = new T[rows];
+        var levels = new short[rows];
+        int done = 0;
+        while (done < rows)
+        {
+            long read = reader.ReadBatch(rows - done, levels.AsSpan(done), default, values.AsSpan(done), out long count);
+            if (read <= 0 || count != read) throw Truncated(path, column, done, rows);
+            done += (int)read;
+        }
+        return values;
     }
 
-    private static async Task<ParquetReader> Open(string path, Stream stream, CancellationToken cancel)
+    private static double?[] Optional(RowGroupReader group, int column, int rows, string path)
+    {
+        using var reader = (ColumnReader<double>)group.Column(column);
+        var result = new double?[rows];
+        var levels = new short[rows];
+        var values = new double[rows];
+        int done = 0, defined = 0;
+        while (done < rows)
+        {
+            long read = reader.ReadBatch(rows - done, levels.AsSpan(done), default, values.AsSpan(defined), out long count);
+            if (read <= 0) throw Truncated(path, column, done, rows);
+            done += (int)read;
+            defined += (int)count;
+        }
+        // Every row defined (always so in a REQUIRED column, whose levels the reader leaves unwritten), or by its level.
+        for (int r = 0, v = 0; r < rows; r++)
+            result[r] = defined == rows || levels[r] > 0 ? values[v++] : null;
+        return result;
+    }
+
+    private static string[] Texts(RowGroupReader group, int column, int rows, string path)
+    {
+        using var reader = (ColumnReader<ByteArray>)group.Column(column);
+        var result = new string[rows];
+        var levels = new short[rows];
+        var values = new ByteArray[rows];
+        int done = 0;
+        while (done < rows)
+        {
+            // The byte arrays point into the reader's page: decode them before the next read.
+            long read = reader.ReadBatch(rows - done, levels.AsSpan(done), default, values.AsSpan(done), out long count);
+            if (read <= 0 || count != read) throw Truncated(path, column, done, rows);
+            for (int r = done; r < done + read; r++)
+                unsafe { result[r] = System.Text.Encoding.UTF8.GetString((byte*)values[r].Pointer, values[r].Length); }
+            done += (int)read;
+        }
+        return result;
+    }
+
+    private static InputException Truncated(string path, int column, int done, int rows) =>
+        new($"{path}: column {column} ends after {done} of {rows} rows of its row group");
+
+    private static T Read<T>(string path, Func<ParquetFileReader, T> read)
     {
         try
         {
-            return await ParquetReader.CreateAsync(stream, cancellationToken: cancel);
+            using var file = new ParquetFileReader(path);
+            return read(file);
         }
-        catch (Exception e) when (e is IOException or ParquetException or InvalidDataException)
+        catch (Exception e) when (e is not InputException and not OperationCanceledException and not OutOfMemoryException)
         {
-            throw new InputException($"{path}: not a readable Parquet file ({e.Message})");
+            string reason = e.Message.Split('\n')[0].Trim();
+            throw new InputException($"{path}: not a readable Parquet file ({(reason.Length > 300 ? reason[..300] + "..." : reason)})");
         }
     }
 
-    private static IReadOnlyDictionary<string, string> Check(string path, ParquetReader reader)
+    private static IReadOnlyDictionary<string, string> Check(string path, ParquetFileReader file)
     {
-        var metadata = reader.CustomMetadata ?? new Dictionary<string, string>();
+        var metadata = file.FileMetaData.KeyValueMetadata;
         if (!metadata.ContainsKey(Sweep.MetadataKey))
             throw new InputException($"{path}: not a sweep table (no {Sweep.MetadataKey} metadata)");
         return metadata;

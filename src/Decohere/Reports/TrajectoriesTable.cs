@@ -17,18 +17,16 @@ public sealed class TrajectoriesTable : IRunStream<TrajectoryBatch>
     private readonly ParquetTable _table;
     private readonly TrajectorySampler _sampler;
     private readonly string[] _modes;
-    private readonly ReadOnlyMemory<char>[] _names;
-    // Reused between batches (the batch size is fixed for a run).
+    // Reused between batches (the batch size is fixed for a run); modes as indices into their names.
     private long[] _trajectory = [];
     private double[] _time = [], _x = [], _p = [];
-    private ReadOnlyMemory<char>[] _mode = [];
+    private int[] _mode = [];
 
     private TrajectoriesTable(ParquetTable table, TrajectorySampler sampler, string[] modes)
     {
         _table = table;
         _sampler = sampler;
         _modes = modes;
-        _names = [.. modes.Select(m => m.AsMemory())];
     }
 
     /// <summary>Opens the table; the sampler must record whole modes (x then p of each, in pairs).</summary>
@@ -38,7 +36,8 @@ public sealed class TrajectoriesTable : IRunStream<TrajectoryBatch>
         if (c.Length % 2 != 0 || Enumerable.Range(0, c.Length / 2).Any(j => c[2 * j] % 2 != 0 || c[2 * j + 1] != c[2 * j] + 1))
             throw new ArgumentException("the sampler must record (x, p) pairs of whole modes", nameof(sampler));
         var modes = Enumerable.Range(0, c.Length / 2).Select(j => sampler.Dynamics.ModeNames[c[2 * j] / 2]).ToArray();
-        return new TrajectoriesTable(await ParquetTable.CreateAsync(path, Columns, metadata.ToKeyValues(), cancel), sampler, modes);
+        ColumnSpec[] columns = [.. Columns[..2], Columns[2] with { Categories = modes }, .. Columns[3..]];
+        return new TrajectoriesTable(await ParquetTable.CreateAsync(path, columns, metadata.ToKeyValues(), cancel), sampler, modes);
     }
 
     /// <summary>The sink to hand to <see cref="TrajectorySampler.RunAsync"/>.</summary>
@@ -49,14 +48,13 @@ public sealed class TrajectoriesTable : IRunStream<TrajectoryBatch>
         {
             _trajectory = new long[rows];
             _time = new double[rows];
-            _mode = new ReadOnlyMemory<char>[rows];
+            _mode = new int[rows];
             _x = new double[rows];
             _p = new double[rows];
         }
         long[] trajectory = _trajectory;
         double[] time = _time, x = _x, p = _p;
-        var mode = _mode;
-        var names = _names;
+        int[] mode = _mode;
         int r = 0;
         for (int t = 0; t < batch.Count; t++)
             for (int k = 0; k < times; k++)
@@ -65,7 +63,7 @@ public sealed class TrajectoriesTable : IRunStream<TrajectoryBatch>
                     int at = (t * times + k) * batch.Components + 2 * j;
                     trajectory[r] = batch.FirstTrajectory + t;
                     time[r] = _sampler.Times[k];
-                    mode[r] = names[j];
+                    mode[r] = j;
                     x[r] = batch.Values[at];
                     p[r] = batch.Values[at + 1];
                 }

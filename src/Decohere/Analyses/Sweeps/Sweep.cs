@@ -132,10 +132,8 @@ public sealed record SweepDescription(
         [property: JsonPropertyName("metric")] string Spec,
         [property: JsonPropertyName("column")] string Column);
 
-    private static readonly JsonSerializerOptions Options = new() { WriteIndented = false };
-
     /// <summary>Compact JSON (doubles round-trip exactly).</summary>
-    public string ToJson() => JsonSerializer.Serialize(this, Options);
+    public string ToJson() => JsonSerializer.Serialize(this, IO.DecohereJsonContext.Default.SweepDescription);
 
     /// <summary>Reads the JSON written by <see cref="ToJson"/>.</summary>
     /// <exception cref="InputException">Not a sweep description.</exception>
@@ -143,7 +141,7 @@ public sealed record SweepDescription(
     {
         try
         {
-            return JsonSerializer.Deserialize<SweepDescription>(json, Options) ?? throw new JsonException("null");
+            return JsonSerializer.Deserialize(json, IO.DecohereJsonContext.Default.SweepDescription) ?? throw new JsonException("null");
         }
         catch (JsonException e)
         {

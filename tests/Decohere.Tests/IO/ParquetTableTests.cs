@@ -1,0 +1,147 @@
+using Decohere.IO;
+
+namespace Decohere.Tests.IO;
+
+/// <summary>Tables written by <see cref="ParquetTable"/> read back by DuckDB, an independent Parquet implementation.</summary>
+public class ParquetTableTests
+{
+    private static readonly ColumnSpec[] Columns =
+    [
+        ColumnSpec.Long("shot") with { Delta = true }, ColumnSpec.Double("delay_s") with { Dictionary = true }, ColumnSpec.String("mode"),
+        ColumnSpec.Double("x"), ColumnSpec.NullableDouble("z"), ColumnSpec.NullableDouble("w"), ColumnSpec.Int("n"),
+        ColumnSpec.Bool("ok"), ColumnSpec.String("label"),
+    ];
+
+    private static async Task Write(string path, double[] x, ParquetCompression compression)
+    {
+        await using var table = await ParquetTable.CreateAsync(path, Columns, new Dictionary<string, string> { ["k"] = "välue" }, default, compression);
+        // Two row groups: constant columns as one-element arrays; z nullable from double?[], w from double[] with NaN and ∞.
+        for (int g = 0; g < 2; g++)
+        {
+            int start = g * 600, n = g == 0 ? 600 : 400;
+            var rows = Enumerable.Range(start, n).ToArray();
+            await table.WriteRowGroupAsync(n,
+            [
+                rows.Select(i => (long)i).ToArray(), new[] { g == 0 ? 0.001 : 0.002 }, new[] { "drum" }, x[start..(start + n)],
+                rows.Select(i => i % 3 == 0 ? (double?)null : i * 0.5).ToArray(),
+                rows.Select(i => i % 5 == 0 ? double.NaN : i % 7 == 0 ? double.PositiveInfinity : -i).ToArray(),
+                rows.ToArray(), rows.Select(i => i % 2 == 0).ToArray(),
+                rows.Select(i => (i % 4 == 0 ? "ß" : "r") + i).Select(s => s.AsMemory()).ToArray(),
+            ]);
+        }
+        Assert.Equal(1000, table.RowCount);
+        await table.CommitAsync();
+    }
+
+    [Theory]
+    [InlineData(ParquetCompression.None, "UNCOMPRESSED")]
+    [InlineData(ParquetCompression.Snappy, "SNAPPY")]
+    [InlineData(ParquetCompression.Zstd, "ZSTD")]
+    public async Task TypesNullsConstantsAndMetadataReadBackThroughDuckDb(ParquetCompression compression, string codec)
+    {
+        string dir = TestPaths.NewTempDirectory();
+        string path = Path.Combine(dir, "t.parquet");
+        var random = new Random(5);
+        var x = Enumerable.Range(0, 1000).Select(_ => random.NextDouble() - 0.5).ToArray();
+        await Write(path, x, compression);
+        string file = DuckDb.Literal(path);
+
+        var schema = DuckDb.Query($"SELECT column_name, column_type FROM (DESCRIBE SELECT * FROM read_parquet({file}))");
+        Assert.Equal(Columns.Select(c => c.Name), schema.Select(r => (string)r[0]!));
+        Assert.Equal(["BIGINT", "DOUBLE", "VARCHAR", "DOUBLE", "DOUBLE", "DOUBLE", "INTEGER", "BOOLEAN", "VARCHAR"], schema.Select(r => (string)r[1]!));
+        var rows = DuckDb.Query($"SELECT shot, delay_s, mode, x, z, w, n, ok, label FROM read_parquet({file}) ORDER BY shot");
+        Assert.Equal(1000, rows.Count);
+        for (int i = 0; i < 1000; i++)
+        {
+            Assert.Equal((long)i, rows[i][0]);
+            Assert.Equal(i < 600 ? 0.001 : 0.002, (double)rows[i][1]!);
+            Assert.Equal("drum", rows[i][2]);
+            Assert.Equal(x[i], (double)rows[i][3]!);
+            Assert.Equal(i % 3 == 0 ? null : i * 0.5, (double?)rows[i][4]);
+            Assert.Equal(i % 5 == 0 || i % 7 == 0 ? null : -i, (double?)rows[i][5]);
+            Assert.Equal(i, rows[i][6]);
+            Assert.Equal(i % 2 == 0, rows[i][7]);
+            Assert.Equal((i % 4 == 0 ? "ß" : "r") + i, rows[i][8]);
+        }
+        var meta = DuckDb.Query($"SELECT decode(key), decode(value) FROM parquet_kv_metadata({file})");
+        Assert.Contains(meta, r => (string)r[0]! == "k" && (string)r[1]! == "välue");
+        // Nullability in the schema: only the nullable columns are OPTIONAL (DuckDB's parquet_schema, repetition_type).
+        var repetition = DuckDb.Query($"SELECT name, repetition_type FROM parquet_schema({file}) WHERE name <> 'schema'")
+            .ToDictionary(r => (string)r[0]!, r => (string)r[1]!);
+        Assert.All(Columns, c => Assert.Equal(c.Type == typeof(double?) ? "OPTIONAL" : "REQUIRED", repetition[c.Name]));
+        var codecs = DuckDb.Query($"SELECT DISTINCT compression FROM parquet_metadata({file})");
+        Assert.Equal(codec, Assert.Single(codecs)[0]);
+        var groups = DuckDb.Query($"SELECT count(DISTINCT row_group_id) FROM parquet_metadata({file})");
+        Assert.Equal(2L, Convert.ToInt64(groups[0][0]));
+        Assert.Empty(Directory.GetFiles(dir, "*.partial-*"));
+    }
+
+    [Fact]
+    public async Task TheSameRowsGiveTheSameBytes()
+    {
+        string dir = TestPaths.NewTempDirectory();
+        var x = Enumerable.Range(0, 1000).Select(i => Math.Sin(i)).ToArray();
+        await Write(Path.Combine(dir, "a.parquet"), x, ParquetCompression.Zstd);
+        await Task.Delay(1100);   // a timestamp in the file would differ by now
+        await Write(Path.Combine(dir, "b.parquet"), x, ParquetCompression.Zstd);
+        Assert.Equal(File.ReadAllBytes(Path.Combine(dir, "a.parquet")), File.ReadAllBytes(Path.Combine(dir, "b.parquet")));
+    }
+
+    [Fact]
+    public async Task WholeTablesAreSplitIntoRowGroups()
+    {
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
+        var values = Enumerable.Range(0, 2500).Select(i => (double)i).ToArray();
+        await ParquetTable.WriteAsync(path, [ColumnSpec.Double("v"), ColumnSpec.String("c")], [values, new[] { "k" }],
+            new Dictionary<string, string>(), rowGroup: 1000);
+        string file = DuckDb.Literal(path);
+        var sums = DuckDb.Query($"SELECT count(*), sum(v), min(c), max(c) FROM read_parquet({file})")[0];
+        Assert.Equal(2500L, Convert.ToInt64(sums[0]));
+        Assert.Equal(2499.0 * 2500 / 2, (double)sums[1]!);
+        Assert.Equal("k", sums[2]);
+        Assert.Equal("k", sums[3]);
+        var groups = DuckDb.Query($"SELECT DISTINCT row_group_id, row_group_num_rows FROM parquet_metadata({file}) ORDER BY row_group_id");
+        Assert.Equal([1000L, 1000L, 500L], groups.Select(r => Convert.ToInt64(r[1])));
+    }
+
+    [Fact]
+    public async Task TextGivenAsCategoryIndicesReadsAsText()
+    {
+        string dir = TestPaths.NewTempDirectory();
+        string path = Path.Combine(dir, "t.parquet");
+        var stage = ColumnSpec.String("stage") with { Categories = ["cool", "squeeze", "relâche"] };
+        await ParquetTable.WriteAsync(path, [stage, ColumnSpec.Long("k")], [new[] { 2, 0, 1, 1, 2 }, new long[] { 0, 1, 2, 3, 4 }],
+            new Dictionary<string, string>());
+        var rows = DuckDb.Query($"SELECT stage FROM read_parquet({DuckDb.Literal(path)}) ORDER BY k");
+        Assert.Equal(["relâche", "cool", "squeeze", "squeeze", "relâche"], rows.Select(r => (string)r[0]!));
+
+        await Assert.ThrowsAsync<ArgumentException>(() => ParquetTable.WriteAsync(Path.Combine(dir, "u.parquet"), [stage], [new[] { 3 }],
+            new Dictionary<string, string>()));
+        Assert.False(File.Exists(Path.Combine(dir, "u.parquet")));
+    }
+
+    [Fact]
+    public async Task AnEmptyTableHasItsSchema()
+    {
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
+        await ParquetTable.WriteAsync(path, [ColumnSpec.NullableDouble("v"), ColumnSpec.String("c")], [Array.Empty<double>(), Array.Empty<string>()],
+            new Dictionary<string, string>());
+        string file = DuckDb.Literal(path);
+        Assert.Equal(0L, Convert.ToInt64(DuckDb.Query($"SELECT count(*) FROM read_parquet({file})")[0][0]));
+        Assert.Equal(["v", "c"], DuckDb.Query($"SELECT column_name FROM (DESCRIBE SELECT * FROM read_parquet({file}))").Select(r => (string)r[0]!));
+    }
+
+    [Fact]
+    public async Task AShortColumnIsRefusedAndLeavesNoFile()
+    {
+        string dir = TestPaths.NewTempDirectory();
+        var e = await Assert.ThrowsAsync<ArgumentException>(async () =>
+        {
+            await using var table = await ParquetTable.CreateAsync(Path.Combine(dir, "t.parquet"), [ColumnSpec.Double("x"), ColumnSpec.Double("y")],
+                new Dictionary<string, string>());
+            await table.WriteRowGroupAsync(3, [new double[] { 1, 2, 3 }, new double[] { 1, 2 }]);
+        });
+        Assert.Contains("column y", e.Message);
+        Assert.Empty(Directory.GetFiles(dir));
+    }
+}
