@@ -59,7 +59,15 @@ public static class ScenarioFormat
 
     private static Section Bath => new("bath", "give exactly one: temperature (Bose–Einstein at the mode's frequency) or occupancy",
         new Key("temperature", new QuantityKind(Dimension.Temperature, "bath temperature, e.g. 15 mK", 0)),
-        new Key("occupancy", new NumberKind("bath occupancy (quanta)", 0, 1e15)));
+        new Key("occupancy", new NumberKind("bath occupancy (quanta)", 0, 1e15)),
+        new Key("heating", new Section("heating", "extra occupancy as the drive grows: coefficient·C^exponent, or a table of [cooperativity, extra quanta] pairs",
+            new Key("coefficient", new NumberKind("extra quanta per unit cooperativity^exponent", 0, 1e15)),
+            new Key("exponent", new NumberKind("power of the summed cooperativity (default 1)", 0, 10)),
+            new Key("table", new ListKind("[cooperativity, extra quanta] pairs, cooperativity increasing",
+                new ListKind("a pair", new NumberKind("cooperativity, then extra quanta", 0), 2, 2))))),
+        new Key("excess", new NumberKind("excess occupancy at from_stage's start, relaxing with relax_time (quanta)", 0, 1e15)),
+        new Key("relax_time", new QuantityKind(Dimension.Time, "relaxation time of the excess occupancy, e.g. 2 ms", 0)),
+        new Key("from_stage", new NameKind("stage whose start the excess relaxes from (default: the first stage, or the overriding stage)")));
 
     private static Section Mode => new("mode", "a mode: mechanical resonator or cavity",
         new Key("kind", new ChoiceKind("mode kind", "mechanical", "cavity"), Required: true),

@@ -46,8 +46,8 @@ public class ScenarioSchemaTests
         model: full
         sideband_corrections: false
         modes:
-          drum: { kind: mechanical, frequency: 4 MHz, linewidth: 1 Hz, bath: { temperature: 10 mK } }
-          lc: { kind: cavity, frequency: 5 GHz, quality_factor: 25000, bath: { occupancy: 0 } }
+          drum: { kind: mechanical, frequency: 4 MHz, linewidth: 1 Hz, bath: { temperature: 10 mK, excess: 5, relax_time: 1 ms } }
+          lc: { kind: cavity, frequency: 5 GHz, quality_factor: 25000, bath: { occupancy: 0, heating: { coefficient: 1e-5, exponent: 1 } } }
         couplings:
           - { modes: [drum, lc], kind: beam-splitter, rate: 1 kHz }
         initial:
