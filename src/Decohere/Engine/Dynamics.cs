@@ -325,16 +325,29 @@ public sealed class Dynamics
         {
             double t0 = StageStarts[i], t1 = StageEnd(i);
             long k = (long)Math.Floor(t0 / step);
-            while (!IsAfter(k * step, t0)) k++;
-            for (; IsAfter(t1, k * step); k++)
+            while (!IsAfter(GridTime(k, step), t0)) k++;
+            for (; IsAfter(t1, GridTime(k, step)); k++)
             {
-                times.Add(k * step);
+                times.Add(GridTime(k, step));
                 stages.Add(i);
             }
             times.Add(t1);
             stages.Add(i);
         }
         return new TimeGrid(times.ToImmutable(), stages.ToImmutable(), step);
+    }
+
+    /// <summary>
+    /// k·step as the double nearest the exact decimal product of k and the step as written (the step's shortest
+    /// decimal, up to 15 digits): 3 × 1e-5 is 3e-5, where the binary product is 3.0000000000000004e-5, so tables print
+    /// the times a user would write. Decimal arithmetic is exact here (k &lt; 2⁶³, 15 digits) and costs ~20 ns a point.
+    /// </summary>
+    public static double GridTime(long k, double step)
+    {
+        double product = k * step;
+        // Beyond decimal's range or resolution (|t| > 7.9e28 s or step < 1e-28 s) the binary product is all there is.
+        if (!(Math.Abs(product) < 1e25) || step < 1e-25) return product;
+        return (double)(k * (decimal)step);
     }
 
     /// <summary>Whether stage i has a steady state.</summary>
