@@ -11,6 +11,7 @@ foreach (var command in new[]
     LifetimeCommand.Create(console), ToleranceCommand.Create(console),
     FitCommand.Create(console), FitNoiseCommand.Create(console),
     SweepCommand.Create(console), MergeCommand.Create(console),
+    ModesCommand.Create(console), ReconstructCommand.Create(console),
 })
     root.Subcommands.Add(command);
 return await Cli.InvokeAsync(root, args, console);
