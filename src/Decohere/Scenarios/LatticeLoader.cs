@@ -299,7 +299,8 @@ public static class LatticeLoader
     /// (0 without a collective tone), drum j by its offset from <see cref="Lattice.DrumReferenceHz"/> (the tone sits at
     /// ν_k ∓ that reference), plus the per-cell tones of the collective drive. Detunings the file gave are added.
     /// </summary>
-    internal static Stage Frame(Lattice lattice, IReadOnlyList<Mode> modes, IReadOnlyList<StaticCoupling> couplings, Stage stage, CollectiveTone? drive)
+    internal static Stage Frame(Lattice lattice, IReadOnlyList<Mode> modes, IReadOnlyList<StaticCoupling> couplings, Stage stage, CollectiveTone? drive,
+        IReadOnlyList<CollectiveMode>? solved = null)
     {
         var byName = modes.ToDictionary(x => x.Name);
         var detunings = stage.DetuningsHz.ToBuilder();
@@ -308,8 +309,12 @@ public static class LatticeLoader
         CollectiveMode? driven = null;
         if (drive is not null)
         {
-            var (h, widths) = lattice.Hamiltonian(modes, couplings);
-            driven = LatticeModes.Solve(h, widths)[drive.ModeIndex];
+            if (solved is null)
+            {
+                var (h, widths) = lattice.Hamiltonian(modes, couplings);
+                solved = LatticeModes.Solve(h, widths);
+            }
+            driven = solved[drive.ModeIndex];
             nu = driven.FrequencyHz;
         }
         foreach (var site in lattice.Sites)
