@@ -72,6 +72,10 @@ public sealed class DataTable
         return result;
     }
 
+    /// <summary>True when row r of the column is empty (CSV) or null (Parquet): an optional value not given.</summary>
+    public bool IsMissing(string column, int r) =>
+        _nulls.GetValueOrDefault(column) is { } nulls ? nulls[r] : _texts.TryGetValue(column, out var t) && string.IsNullOrWhiteSpace(t[r]);
+
     /// <summary>The column as text (numbers formatted invariantly).</summary>
     public string?[] Texts(string column) =>
         _texts.TryGetValue(column, out var t) ? t : [.. _numbers[column].Select(v => v.ToString(CultureInfo.InvariantCulture))];

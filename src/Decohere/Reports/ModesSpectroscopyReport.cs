@@ -17,6 +17,7 @@ public sealed class ModesSpectroscopyReport : IReport<SpectroscopyResult>
     [
         ColumnSpec.Int("mode_index"), ColumnSpec.Int("site"),
         ColumnSpec.Double("mode_frequency_hz"), ColumnSpec.Double("mode_frequency_err_hz"),
+        ColumnSpec.NullableDouble("damping_weight"), ColumnSpec.NullableDouble("damping_weight_err"),
         ColumnSpec.NullableDouble("participation"), ColumnSpec.NullableDouble("participation_err"),
         ColumnSpec.NullableDouble("measured_linewidth_hz"), ColumnSpec.NullableDouble("measured_linewidth_err_hz"),
         ColumnSpec.Double("drum_detuning_hz"), ColumnSpec.Double("photons"), ColumnSpec.Int("averages"),
@@ -36,6 +37,7 @@ public sealed class ModesSpectroscopyReport : IReport<SpectroscopyResult>
         [
             r.Select(x => x.ModeIndex).ToArray(), r.Select(x => x.Site).ToArray(),
             r.Select(x => x.MeasuredModeFrequencyHz).ToArray(), r.Select(_ => s.FrequencyErrorHz).ToArray(),
+            r.Select(x => x.MeasuredDampingWeight).ToArray(), r.Select(x => x.MeasuredDampingWeightErr).ToArray(),
             r.Select(x => x.MeasuredParticipation).ToArray(), r.Select(x => x.MeasuredParticipationErr).ToArray(),
             r.Select(x => x.MeasuredLinewidthHz).ToArray(), r.Select(x => x.MeasuredLinewidthErrHz).ToArray(),
             r.Select(x => x.DrumDetuningHz).ToArray(), r.Select(_ => s.Photons).ToArray(), r.Select(_ => s.Averages).ToArray(),

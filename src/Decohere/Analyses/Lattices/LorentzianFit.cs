@@ -73,7 +73,7 @@ public static class LorentzianFit
                 cost = c;
                 if (settled) break;
             }
-            if (Math.Abs(b[2] - width) <= 1e-9 * b[2]) return Finish(b, f, weights);
+            if (Math.Abs(b[2] - width) <= 1e-7 * b[2]) return Finish(b, f, weights);
         }
         return null;
     }

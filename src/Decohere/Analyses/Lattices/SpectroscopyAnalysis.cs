@@ -34,13 +34,14 @@ public sealed record SpectroscopySettings
 /// <summary>
 /// One drum under one driven collective mode. <c>Model*</c> values come from the full linear model (the eigenvalues of
 /// the drift with the tone on); <c>Formula*</c> from 4G²/κ with G = g₀√N·|ψ_k(j)|² and the drum's detuning;
-/// <c>Measured*</c> from a Lorentzian fit to a simulated averaged spectrum.
+/// <c>Measured*</c> from a Lorentzian fit to a simulated averaged spectrum: the damping weight Γ/c = |ψ|⁴ with Gaussian
+/// error (the intrinsic linewidth taken as known), and the participation √(Γ/c) for reading.
 /// </summary>
 public sealed record SpectroscopyRow(
     int ModeIndex, int Site, double ModeFrequencyHz, double ModeLinewidthHz, double DrumDetuningHz,
     double Participation, double ModelDampingHz, double ModelShiftHz, double FormulaDampingHz, double ModelParticipation,
     double MeasuredModeFrequencyHz, double? MeasuredLinewidthHz, double? MeasuredLinewidthErrHz,
-    double? MeasuredParticipation, double? MeasuredParticipationErr);
+    double? MeasuredParticipation, double? MeasuredParticipationErr, double? MeasuredDampingWeight, double? MeasuredDampingWeightErr);
 
 /// <summary>The spectroscopy table with the collective modes it probed.</summary>
 public sealed record SpectroscopyResult(
@@ -93,16 +94,18 @@ public static class SpectroscopyAnalysis
                 double gamma = scenario.ModeNamed(site.Drum).LinewidthHz;
                 var random = RandomStream.For(seed, SeedStream.Spectroscopy, k, j);
                 var fit = LorentzianFit.Measure(gamma + damping[j], delta + shift[j], settings, ref random);
-                double? measured = null, measuredErr = null;
+                double? measured = null, measuredErr = null, weight = null, weightErr = null;
                 if (fit is { } f)
                 {
                     double g = f.LinewidthHz - gamma;
+                    weight = g / c;
+                    weightErr = f.LinewidthErrHz / c;
                     // |ψ|² = √(Γ/c); near a node Γ is within its error of zero, so the error is floored at the value σ_Γ gives.
                     measured = Math.Sqrt(Math.Max(g, 0) / c);
                     measuredErr = f.LinewidthErrHz / (2 * c * Math.Max(measured.Value, Math.Sqrt(f.LinewidthErrHz / c)));
                 }
                 rows[k * n + j] = new SpectroscopyRow(k, j, mode.FrequencyHz, mode.LinewidthHz, delta, p, damping[j], shift[j], c * p * p,
-                    Math.Sqrt(Math.Max(damping[j], 0) / c), measuredNu, fit?.LinewidthHz, fit?.LinewidthErrHz, measured, measuredErr);
+                    Math.Sqrt(Math.Max(damping[j], 0) / c), measuredNu, fit?.LinewidthHz, fit?.LinewidthErrHz, measured, measuredErr, weight, weightErr);
             }
         });
         int failed = rows.Count(r => r.MeasuredLinewidthHz is null);
@@ -112,6 +115,12 @@ public static class SpectroscopyAnalysis
         double strongest = rows.Max(r => r.ModelDampingHz);
         if (strongest > 0.1 * closest)
             warnings.Add($"the strongest optomechanical damping, {strongest:G3} Hz, is {strongest / closest:G3} of the closest drums' frequency distance: the drums hybridise through the driven mode and a damping no longer belongs to one drum (lower the photons or space the drums further)");
+        // A drum also feels the collective modes next to the driven one, off resonance by their distance Δ: relative to the
+        // driven mode's share they add about (|ψ_q(j)|²/|ψ_k(j)|²)·(κ/2Δ)², so participations read from damping mix neighbours.
+        double nearest = collective.Zip(collective.Skip(1), (a, b) => b.FrequencyHz - a.FrequencyHz).DefaultIfEmpty(double.PositiveInfinity).Min();
+        double widest = collective.Max(m => m.LinewidthHz);
+        if (Math.Pow(widest / (2 * nearest), 2) > 1e-3)
+            warnings.Add($"two collective modes are {nearest:G3} Hz apart, only {nearest / widest:G3} linewidths: a tone on one also damps the drums through the other, and the participations read from the damping mix them (compare implied_participation with model_participation)");
         var provenance = modes.Provenance with { Seed = seed };
         return new SpectroscopyResult(modes, settings, [.. rows], provenance, ResultStatuses.From(warnings), [.. warnings], WorkStatistics.Since(start, collective.Length));
     }
