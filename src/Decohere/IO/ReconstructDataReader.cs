@@ -21,7 +21,7 @@ public static class ReconstructDataReader
         var table = await DataTable.LoadAsync(path, cancel);
         foreach (var required in new[] { "mode_index", "mode_frequency_hz", "mode_frequency_err_hz" })
             if (!table.Has(required))
-                throw new InputException($"{table.Source}: no column {required}; expected mode_index, mode_frequency_hz, mode_frequency_err_hz and optionally site, participation, participation_err");
+                throw new InputException($"{table.Source}: no column {required}; expected mode_index, mode_frequency_hz, mode_frequency_err_hz and optionally site with damping_weight, damping_weight_err or participation, participation_err");
         // The damping weight |ψ|⁴ has the Gaussian errors of the damping it comes from, so it is preferred when present.
         bool squared = table.Has("damping_weight");
         string column = squared ? "damping_weight" : "participation", errorColumn = column + "_err";

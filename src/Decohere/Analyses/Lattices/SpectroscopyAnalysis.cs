@@ -152,6 +152,8 @@ public static class SpectroscopyAnalysis
         var evd = complex.Evd(Symmetricity.Asymmetric);
         var damping = new double[lattice.Count];
         var shift = new double[lattice.Count];
+        var vectors = evd.EigenVectors;
+        var norms = Enumerable.Range(0, m).Select(e => vectors.Column(e).L2Norm()).ToArray();
         foreach (var site in lattice.Sites)
         {
             int row = model.IndexOf(site.Drum);
@@ -159,8 +161,7 @@ public static class SpectroscopyAnalysis
             double bestWeight = -1;
             for (int e = 0; e < m; e++)
             {
-                var column = evd.EigenVectors.Column(e);
-                double w = column[row].Magnitude / Math.Sqrt(column.Sum(x => x.Magnitude * x.Magnitude));
+                double w = vectors[row, e].Magnitude / norms[e];
                 if (w > bestWeight) { bestWeight = w; best = e; }
             }
             var lambda = evd.EigenValues[best];
