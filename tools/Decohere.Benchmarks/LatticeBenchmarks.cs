@@ -56,7 +56,7 @@ public class LatticeFlake
 /// <summary>
 /// A disordered 100-cell chain (200 modes, the most a scenario holds): modes, the steady state of collective cooling, and a
 /// reconstruction from every mode frequency and participation with Gaussian noise. Its spectroscopy (100 drifts of 400
-/// dimensions, 10⁴ fitted spectra) runs for tens of seconds: <c>--filter '*LatticeChain.Spectroscopy*' --job dry</c>.
+/// dimensions, 10⁴ fitted spectra) takes about 12 s: <c>--filter '*LatticeChain.Spectroscopy*' --job dry</c>.
 /// </summary>
 public class LatticeChain
 {

@@ -75,13 +75,15 @@ public static class SpectroscopyAnalysis
         long seed = settings.Seed ?? scenario.Seed;
         var rows = new SpectroscopyRow[collective.Length * n];
         var warnings = new List<string>();
+        // The drift without tones and frames comes from the model once; each probe adds only Hamiltonian terms to it.
+        var idle = new Stage("probe", 1, [], ImmutableDictionary<string, Bath>.Empty, ImmutableDictionary<string, double>.Empty);
+        var baseModel = ModelBuilder.Build(scenario with { Stages = [idle] }, idle);
+        var baseDrift = AmplitudeDrift(baseModel);
         Parallel.For(0, collective.Length, k =>
         {
-            var stage = LatticeLoader.Frame(lattice, scenario.Modes, scenario.Couplings,
-                new Stage("probe", 1, [], ImmutableDictionary<string, Bath>.Empty, ImmutableDictionary<string, double>.Empty),
-                new CollectiveTone(k, Sideband.Red, settings.Photons), collective);
-            var model = ModelBuilder.Build(scenario with { Stages = [stage] }, stage);
-            var (damping, shift) = DrumEigenvalues(model, scenario, lattice, stage);
+            var stage = LatticeLoader.Frame(lattice, scenario.Modes, scenario.Couplings, idle, new CollectiveTone(k, Sideband.Red, settings.Photons), collective);
+            var drift = WithHamiltonian(baseDrift, baseModel, stage);
+            var (damping, shift) = DrumEigenvalues(drift, baseModel, scenario, lattice, stage);
             var mode = collective[k];
             var frequencyDraw = RandomStream.For(seed, SeedStream.Spectroscopy, k, -1);
             double measuredNu = mode.FrequencyHz + settings.FrequencyErrorHz * frequencyDraw.NextNormal();
@@ -139,16 +141,44 @@ public static class SpectroscopyAnalysis
     }
 
     /// <summary>
-    /// Each drum's energy damping (Hz, above its intrinsic linewidth) and frequency shift (Hz) from the drift of the stage.
-    /// The rotating-wave model is phase invariant (beam splitters, damping, detunings), so each 2×2 block of A is
-    /// [[α, β], [−β, α]] and the complex amplitudes obey d⟨a⟩/dt = M⟨a⟩ with M_ab = α − iβ: an n×n eigenproblem instead of
-    /// 2n×2n. The eigenvalue λ = −Γ/2 − iω whose eigenvector is largest on a drum is that drum's.
+    /// The drift of the complex amplitudes. The rotating-wave model is phase invariant (beam splitters, damping,
+    /// detunings), so each 2×2 block of A is [[α, β], [−β, α]] and d⟨a⟩/dt = M⟨a⟩ with M_ab = α − iβ: an n×n problem
+    /// instead of 2n×2n.
     /// </summary>
-    public static (double[] Damping, double[] Shift) DrumEigenvalues(LinearModel model, Scenario scenario, Lattice lattice, Stage stage)
+    public static Matrix<Complex> AmplitudeDrift(LinearModel model)
     {
         int m = model.ModeNames.Length;
         var a = model.Drift;
-        var complex = Matrix<Complex>.Build.Dense(m, m, (i, j) => new Complex(a[2 * i, 2 * j], -a[2 * i, 2 * j + 1]));
+        return Matrix<Complex>.Build.Dense(m, m, (i, j) => new Complex(a[2 * i, 2 * j], -a[2 * i, 2 * j + 1]));
+    }
+
+    /// <summary>
+    /// <paramref name="drift"/> (a stage without tones or detunings) with a stage's detunings and red tones added. Both
+    /// are Hamiltonian terms, δa†a and G(a†b + ab†), which the map A = Ω𝐇 turns into −iδ on M's diagonal and −iG
+    /// between the two modes; the test suite checks this against the model built with the stage.
+    /// </summary>
+    public static Matrix<Complex> WithHamiltonian(Matrix<Complex> drift, LinearModel model, Stage stage)
+    {
+        if (stage.Tones.Any(t => t.Sideband != Sideband.Red)) throw new ArgumentException("only red tones are beam splitters", nameof(stage));
+        var m = drift.Clone();
+        foreach (var (mode, delta) in stage.DetuningsHz) m[model.IndexOf(mode), model.IndexOf(mode)] += new Complex(0, -Physics.Angular(delta));
+        foreach (var tone in stage.Tones)
+        {
+            int c = model.IndexOf(tone.Cavity), d = model.IndexOf(tone.Mechanical);
+            var g = new Complex(0, -Physics.Angular(tone.CouplingHz));
+            m[c, d] += g;
+            m[d, c] += g;
+        }
+        return m;
+    }
+
+    /// <summary>
+    /// Each drum's energy damping (Hz, above its intrinsic linewidth) and frequency shift (Hz) from the eigenvalues of the
+    /// amplitude drift of the stage: the eigenvalue λ = −Γ/2 − iω whose eigenvector is largest on a drum is that drum's.
+    /// </summary>
+    public static (double[] Damping, double[] Shift) DrumEigenvalues(Matrix<Complex> complex, LinearModel model, Scenario scenario, Lattice lattice, Stage stage)
+    {
+        int m = model.ModeNames.Length;
         var evd = complex.Evd(Symmetricity.Asymmetric);
         var damping = new double[lattice.Count];
         var shift = new double[lattice.Count];
