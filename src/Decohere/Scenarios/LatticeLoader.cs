@@ -133,8 +133,9 @@ public static class LatticeLoader
         var couplings = ImmutableArray.CreateBuilder<StaticCoupling>(graph.Bonds.Count);
         foreach (var bond in graph.Bonds)
         {
-            double rate = bond.Kind == BondKind.NextNearest ? nextRate : rates[bond.Direction % rates.Length];
-            if (kind != LatticeKind.Explicit) rate += sigmaJ * couplingDraws.NextNormal();
+            // An explicit bond's direction is its own index in the list; generated next-nearest bonds share one rate.
+            double rate = kind == LatticeKind.Explicit ? rates[bond.Direction]
+                : (bond.Kind == BondKind.NextNearest ? nextRate : rates[bond.Direction % rates.Length]) + sigmaJ * couplingDraws.NextNormal();
             couplings.Add(new StaticCoupling(CavityName(bond.A), CavityName(bond.B), CouplingKind.BeamSplitter, rate));
         }
         var lattice = new Lattice(kind.Value, periodic, sites.MoveToImmutable(), [.. graph.Bonds], f0.Value, drumFrequencies.Average(),

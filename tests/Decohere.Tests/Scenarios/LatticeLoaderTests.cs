@@ -153,11 +153,11 @@ public class LatticeLoaderTests
         // ch. 7, recalled from memory). The drift of the engine's model, built from the lattice's expansion, must have them.
         const string pair = """
               kind: explicit
-              positions: [[0, 0], [1, 0]]
-              bonds: [{ sites: [0, 1], rate: 3 MHz }]
+              positions: [[0, 0], [1, 0], [2, 0]]
+              bonds: [{ sites: [0, 1], rate: 3 MHz }, { sites: [1, 2], rate: 0 MHz }, { sites: [0, 2], rate: 0 MHz, kind: next-nearest }]
               cavity: { frequency: 6 GHz, linewidth: 500 kHz }
               drum: { frequency: 5 MHz, linewidth: 1 Hz, bath: { occupancy: 10 }, g0: 10 Hz }
-              cells: { 0: { cavity: { frequency: 6.002 GHz } }, 1: { cavity: { frequency: 5.998 GHz } } }
+              cells: { 0: { cavity: { frequency: 6.002 GHz } }, 1: { cavity: { frequency: 5.998 GHz } }, 2: { cavity: { frequency: 6.5 GHz } } }
             """;
         var s = Load(pair);
         var model = ModelBuilder.Build(s, s.Stages[0]);
@@ -166,11 +166,15 @@ public class LatticeLoaderTests
         foreach (double expected in new[] { splitting, -splitting })
             Assert.Contains(eig, l => Math.Abs(l.Imaginary - 2 * Math.PI * expected) < 1e-6 * 2 * Math.PI * splitting
                 && Math.Abs(l.Real + Math.PI * 500e3) < 1e-6 * Math.PI * 500e3);
-        // The lattice's own collective modes agree.
+        // The lattice's own collective modes agree (a third cavity, 500 MHz away and uncoupled, stays on its own).
         var modes = LatticeModes.Solve(s, s.Lattice!);
         Assert.Equal(-splitting, modes[0].FrequencyHz, 1e-6 * splitting);
         Assert.Equal(splitting, modes[1].FrequencyHz, 1e-6 * splitting);
         Assert.Equal(500e3, modes[1].LinewidthHz, 1e-6);
+        Assert.Equal(500e6, modes[2].FrequencyHz, 1e-3);
+        Assert.Equal(BondKind.NextNearest, s.Lattice!.Bonds[2].Kind);
+        Assert.Equal(3e6, s.Couplings[0].RateHz);
+        Assert.Equal(7e6, Load(pair.Replace("rate: 0 MHz, kind", "rate: 7 MHz, kind")).Couplings[2].RateHz);
     }
 
     [Fact]
