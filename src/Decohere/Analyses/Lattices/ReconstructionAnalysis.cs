@@ -71,6 +71,9 @@ public static class ReconstructionAnalysis
         int n = lattice.Count;
         Check(data, settings, n);
         var terms = Terms(scenario, lattice, settings);
+        // What is not fitted (on-site offsets with OnSite off, bonds outside the fitted graph) stays at the scenario's values.
+        var (fixedPart, _) = lattice.Hamiltonian(scenario);
+        foreach (var x in terms) fixedPart[x.A, x.B] = fixedPart[x.B, x.A] = 0;
         int p = terms.Count;
         double[] t = terms.Select(x => x.Nominal).ToArray();
         int rows = data.Modes.Length + data.Participations.Length;
@@ -79,7 +82,7 @@ public static class ReconstructionAnalysis
         var warnings = new List<string>();
 
         // Levenberg–Marquardt on χ²(t) (K. Levenberg, Q. Appl. Math. 2, 164 (1944); D. W. Marquardt, J. SIAM 11, 431 (1963)).
-        var (residual, jacobian) = Evaluate(t, terms, data, n);
+        var (residual, jacobian) = Evaluate(t, terms, fixedPart, data);
         double chi = residual.DotProduct(residual);
         double lambda = 1e-3;
         int iterations = 0;
@@ -94,7 +97,7 @@ public static class ReconstructionAnalysis
                 for (int i = 0; i < p; i++) damped[i, i] += lambda * Math.Max(jtj[i, i], 1e-30);
                 var step = damped.Solve(g);
                 var trial = t.Select((v, i) => v + step[i]).ToArray();
-                var (r2, j2) = Evaluate(trial, terms, data, n);
+                var (r2, j2) = Evaluate(trial, terms, fixedPart, data);
                 double chi2 = r2.DotProduct(r2);
                 if (double.IsFinite(chi2) && chi2 <= chi)
                 {
@@ -138,7 +141,7 @@ public static class ReconstructionAnalysis
         double pValue = dof > 0 ? 1 - MathNet.Numerics.Distributions.ChiSquared.CDF(dof, chi) : double.NaN;
         if (dof > 0 && pValue < 1e-3)
             warnings.Add($"χ² = {chi:G4} for {dof} degrees of freedom (p = {pValue:G3}): the graph, the errors or the assignment of modes do not describe the data");
-        var modes = LatticeModes.Solve(Hamiltonian(t, terms, n), new double[n].Select(_ => 1.0).ToArray());
+        var modes = LatticeModes.Solve(Hamiltonian(t, terms, fixedPart), new double[n].Select(_ => 1.0).ToArray());
         double minGap = modes.Zip(modes.Skip(1), (a, b) => b.FrequencyHz - a.FrequencyHz).DefaultIfEmpty(double.PositiveInfinity).Min();
         double typicalError = data.Modes.Select(m => m.ErrorHz).DefaultIfEmpty(0).Average();
         if (minGap < 3 * typicalError)
@@ -172,9 +175,9 @@ public static class ReconstructionAnalysis
         return terms;
     }
 
-    private static double[,] Hamiltonian(double[] t, IReadOnlyList<Term> terms, int n)
+    private static double[,] Hamiltonian(double[] t, IReadOnlyList<Term> terms, double[,] fixedPart)
     {
-        var h = new double[n, n];
+        var h = (double[,])fixedPart.Clone();
         for (int i = 0; i < terms.Count; i++)
         {
             var x = terms[i];
@@ -187,9 +190,10 @@ public static class ReconstructionAnalysis
     // Weighted residuals (data − model)/σ and their Jacobian with respect to the terms (sign: ∂model/∂t / σ, so the
     // Gauss–Newton step solves JᵀJ δ = Jᵀr). Eigenvalues: ∂λ_k/∂t_i = ψ_kᵀM_iψ_k; eigenvectors:
     // ∂ψ_k/∂t_i = Σ_{q≠k} ψ_q (ψ_qᵀM_iψ_k)/(λ_k − λ_q); ∂|ψ_k(j)|² = 2ψ_k(j)∂ψ_k(j).
-    private static (Vector<double> Residual, Matrix<double> Jacobian) Evaluate(double[] t, IReadOnlyList<Term> terms, SpectroscopyData data, int n)
+    private static (Vector<double> Residual, Matrix<double> Jacobian) Evaluate(double[] t, IReadOnlyList<Term> terms, double[,] fixedPart, SpectroscopyData data)
     {
-        var evd = Matrix<double>.Build.DenseOfArray(Hamiltonian(t, terms, n)).Evd(Symmetricity.Symmetric);
+        int n = fixedPart.GetLength(0);
+        var evd = Matrix<double>.Build.DenseOfArray(Hamiltonian(t, terms, fixedPart)).Evd(Symmetricity.Symmetric);
         var lambda = evd.EigenValues.Select(x => x.Real).ToArray();
         var psi = evd.EigenVectors;
         int p = terms.Count, rows = data.Modes.Length + data.Participations.Length;

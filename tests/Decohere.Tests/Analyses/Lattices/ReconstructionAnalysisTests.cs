@@ -82,6 +82,17 @@ public class ReconstructionAnalysisTests
     }
 
     [Fact]
+    public void TermsNotFittedKeepTheScenariosValues()
+    {
+        // With on-site terms off, the cavities' frequency offsets stay the scenario's: noiseless data from that same
+        // scenario are then fitted exactly (zero residual), which fails if the offsets were dropped to zero.
+        var s = ModesAnalysisTests.Chain(6, 60, 100, "  disorder: { frequency: 5 MHz, seed: 2 }");
+        var fit = ReconstructionAnalysis.Solve(s, Simulate(s, 1e-3, 1e-12, 5), new ReconstructionSettings { OnSite = false });
+        Assert.DoesNotContain(fit.Terms, t => t.Kind == TermKind.OnSite);
+        Assert.True(fit.ChiSquare < 10 * fit.DegreesOfFreedom, $"χ² = {fit.ChiSquare}");
+    }
+
+    [Fact]
     public void SpectrumAloneLeavesTheChainsCouplingsUndetermined()
     {
         // A Jacobi matrix with zero diagonal has a spectrum symmetric about zero, so 6 eigenvalues give only 3 numbers for
