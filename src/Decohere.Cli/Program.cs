@@ -11,9 +11,8 @@ foreach (var command in new[]
     LifetimeCommand.Create(console), ToleranceCommand.Create(console),
     FitCommand.Create(console), FitNoiseCommand.Create(console),
     SweepCommand.Create(console), MergeCommand.Create(console),
-    SpectrumCommand.Create(console),
-    CoolingCommand.Create(console),
-    RingdownCommand.Create(console),
+    SpectrumCommand.Create(console), CoolingCommand.Create(console), RingdownCommand.Create(console),
+    ModesCommand.Create(console), ReconstructCommand.Create(console),
 })
     root.Subcommands.Add(command);
 return await Cli.InvokeAsync(root, args, console);

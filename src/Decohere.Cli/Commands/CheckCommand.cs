@@ -50,6 +50,7 @@ public static class CheckCommand
         var s = result.Scenario;
         var o = console.Out;
         o.MarkupLineInterpolated($"[bold]{s.Name}[/]: valid, model {s.Model.ToString().ToLowerInvariant()}, {s.Modes.Length} modes, {s.Stages.Length} stages, {Quantity.Format(s.TotalDurationS, Dimension.Time)} in all");
+        if (s.Lattice is not null) ModesCommand.PrintExpansion(o, s);
 
         var mech = new Table().Title("mechanical modes");
         foreach (var h in new[] { "mode", "frequency", "linewidth γ/2π", "Q", "bath n_th", "bath T", "γ·n_th", "1/(γ·n_th)" }) mech.AddColumn(h);

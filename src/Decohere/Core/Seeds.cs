@@ -18,6 +18,10 @@ public enum SeedStream
     SweepPoint = 5,
     /// <summary>The Monte Carlo of a tolerance grid point: (grid point index).</summary>
     Tolerance = 6,
+    /// <summary>Disorder of a lattice's cavities and couplings: (quantity index).</summary>
+    LatticeDisorder = 7,
+    /// <summary>Simulated drum spectra of a mode-shape spectroscopy: (collective mode, drum).</summary>
+    Spectroscopy = 8,
 }
 
 /// <summary>

@@ -82,6 +82,11 @@ public sealed class DataTable
         return values.Values;
     }
 
+    /// <summary>True when row r of the column is empty (CSV) or null (Parquet): an optional value not given.</summary>
+    public bool IsMissing(string column, int r) =>
+        _numbers.TryGetValue(column, out var numbers) ? numbers.IsMissing(r)
+        : _texts.TryGetValue(column, out var text) && string.IsNullOrWhiteSpace(text.Values[text.Codes[r]]);
+
     /// <summary>The column as text (numbers formatted invariantly).</summary>
     /// <exception cref="InvalidOperationException">The column was not selected.</exception>
     public string?[] Texts(string column)
@@ -247,7 +252,7 @@ public sealed class DataTable
     {
         if (number is not null)
         {
-            if (field.IsEmpty) number.Refuse(r, "value is missing");
+            if (field.IsEmpty) number.RefuseMissing(r, "value is missing");
             else if (!double.TryParse(field, NumberStyles.Float, CultureInfo.InvariantCulture, out double v)) number.Refuse(r, $"'{field}' is not a number");
             else if (!double.IsFinite(v)) number.Refuse(r, $"'{field}' is not a finite number");
             else number.Values[r] = v;
@@ -339,6 +344,16 @@ public sealed class DataTable
         public double[] Values { get; } = new double[rows];
         public int ProblemRow { get; private set; } = -1;
         public string? Problem { get; private set; }
+
+        private HashSet<int>? _missing;
+
+        public bool IsMissing(int row) => _missing?.Contains(row) == true;
+
+        public void RefuseMissing(int row, string problem)
+        {
+            (_missing ??= []).Add(row);
+            Refuse(row, problem);
+        }
 
         public void Refuse(int row, string problem)
         {
@@ -534,7 +549,7 @@ public sealed class DataTable
             for (int k = 0; k < read; k++)
             {
                 if (buffer[k] is { } v) Put(column, offset + done + k, convert(v));
-                else column.Refuse(offset + done + k, "value is missing (null)");
+                else column.RefuseMissing(offset + done + k, "value is missing (null)");
             }
             done += read;
         }

@@ -36,6 +36,12 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     /// <summary><c>ringdown</c>.</summary>
     public static OutputSet Ringdown { get; } = new("ringdown", ["ringdown.json", "ringdown.parquet", "ringdown.png"]);
 
+    /// <summary><c>modes</c>: collective modes of a lattice (with <c>--spectroscopy</c> also the simulated drum spectroscopy).</summary>
+    public static OutputSet Modes { get; } = new("modes", ["modes.parquet", "modes.json", "modes.png", "spectroscopy.parquet", "spectroscopy.png"]);
+
+    /// <summary><c>reconstruct</c>.</summary>
+    public static OutputSet Reconstruct { get; } = new("reconstruct", ["reconstruct.json", "reconstruct.parquet"]);
+
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg", "sweep.csv"]);
 

@@ -155,7 +155,8 @@ public sealed record Jitter(
 /// <summary>
 /// A validated, immutable scenario: the problem the engines solve. Modes keep the order of the file,
 /// which fixes the order of the state vector R = (x₁, p₁, …, xₙ, pₙ).
-/// Make modified copies with <c>scenario with { … }</c>; never mutate.
+/// Make modified copies with <c>scenario with { … }</c>; never mutate. A lattice scenario keeps its geometry in
+/// <see cref="Lattice"/> beside the modes and couplings it expanded to.
 /// </summary>
 public sealed record Scenario(
     string Name,
@@ -170,7 +171,8 @@ public sealed record Scenario(
     double OutputStepS,
     long Seed,
     string SourceText,
-    string SourceHash)
+    string SourceHash,
+    Lattice? Lattice = null)
 {
     /// <summary>The mode of the given name; the scenario is validated, so an unknown name is a programming error.</summary>
     public Mode ModeNamed(string name) => Modes.First(m => m.Name == name);

@@ -122,11 +122,14 @@ public static class ScenarioLoader
     {
         public YamlReader Reader { get; } = new();
 
+        private LatticeLoader.Expansion? _lattice;
+        private readonly Dictionary<string, CollectiveTone> _drives = [];
+
         // Names of every mode in the file, valid or not: a reference to an invalid mode is not a second problem.
         private readonly HashSet<string> _declared = [];
 
         private static readonly string[] TopKeys =
-            ["name", "model", "sideband_corrections", "modes", "couplings", "initial", "stages", "readout", "jitter", "output", "seed"];
+            ["name", "model", "sideband_corrections", "modes", "couplings", "lattice", "initial", "stages", "readout", "jitter", "output", "seed"];
 
         public Scenario? Build(YamlMappingNode root)
         {
@@ -144,12 +147,31 @@ public static class ScenarioLoader
                 r.Report("sideband_corrections", YamlReader.Get(root, "sideband_corrections"),
                     "off-resonant sideband rates are an option of model: effective (the full model keeps the cavity in the rotating-wave approximation)");
 
-            var modesNode = r.Required(root, "", "modes", "map of mode name to mode");
-            if (modesNode is YamlMappingNode declared)
-                _declared.UnionWith(declared.Children.Keys.OfType<YamlScalarNode>().Select(k => k.Value ?? ""));
-            var modes = Modes(modesNode);
-            var byName = modes.ToDictionary(m => m.Name);
-            var couplings = Couplings(YamlReader.Get(root, "couplings"), byName, model);
+            ImmutableArray<Mode> modes;
+            ImmutableArray<StaticCoupling> couplings;
+            Dictionary<string, Mode> byName;
+            if (YamlReader.Get(root, "lattice") is { } latticeNode)
+            {
+                // A lattice generates its modes and couplings (Scenarios/LatticeLoader).
+                foreach (var key in new[] { "modes", "couplings" })
+                    if (YamlReader.Get(root, key) is { } extra) r.Report(key, extra, $"a lattice scenario generates its {key} (cavity_j, drum_j); remove {key}: or lattice:");
+                if (model == ModelKind.Effective)
+                    r.Report("model", YamlReader.Get(root, "model"), "a lattice's cavities are coupled to each other, so they cannot be eliminated one by one; use model: full");
+                _lattice = LatticeLoader.Read(r, latticeNode, BathOf);
+                modes = _lattice?.Modes ?? [];
+                couplings = _lattice?.Couplings ?? [];
+                byName = modes.ToDictionary(m => m.Name);
+                _declared.UnionWith(byName.Keys);
+            }
+            else
+            {
+                var modesNode = r.Required(root, "", "modes", "map of mode name to mode");
+                if (modesNode is YamlMappingNode declared)
+                    _declared.UnionWith(declared.Children.Keys.OfType<YamlScalarNode>().Select(k => k.Value ?? ""));
+                modes = Modes(modesNode);
+                byName = modes.ToDictionary(m => m.Name);
+                couplings = Couplings(YamlReader.Get(root, "couplings"), byName, model);
+            }
             var initial = Initials(YamlReader.Get(root, "initial"), byName);
             var stages = Stages(r.Required(root, "", "stages", "list of stages"), byName, model);
             foreach (var (path, node, stageName) in _fromStages)
@@ -168,7 +190,7 @@ public static class ScenarioLoader
 
             if (name is null || r.Problems.Count > 0) return null;
             var scenario = new Scenario(name, model, corrections, modes, couplings, initial, stages, readout, jitter,
-                step, seed, text, Hash(text));
+                step, seed, text, Hash(text), _lattice is null ? null : _lattice.Lattice with { Drives = _drives.ToImmutableDictionary() });
             CheckScales(scenario);
             return r.Problems.Count > 0 ? null : scenario;
         }
@@ -563,8 +585,17 @@ public static class ScenarioLoader
 
                 var tones = ImmutableArray.CreateBuilder<Tone>();
                 var toneSeq = r.Sequence(YamlReader.Get(m, "tones"), path + ".tones");
+                CollectiveTone? drive = null;
                 for (int k = 0; toneSeq is not null && k < toneSeq.Children.Count; k++)
-                    if (ToneOf(toneSeq.Children[k], $"{path}.tones[{k}]", modes) is { } tone) tones.Add(tone);
+                {
+                    if (LatticeLoader.IsCollective(toneSeq.Children[k]))
+                    {
+                        if (drive is not null || toneSeq.Children.Count > 1)
+                            r.Report($"{path}.tones[{k}]", toneSeq.Children[k], "a stage with a collective tone has no other tone: the tone fixes the frame of the whole network");
+                        drive = LatticeLoader.Collective(r, toneSeq.Children[k], $"{path}.tones[{k}]", _lattice?.Lattice);
+                    }
+                    else if (ToneOf(toneSeq.Children[k], $"{path}.tones[{k}]", modes) is { } tone) tones.Add(tone);
+                }
 
                 var baths = ImmutableDictionary.CreateBuilder<string, Bath>();
                 var bathMap = r.NamedMapping(YamlReader.Get(m, "bath"), path + ".bath");
@@ -584,8 +615,14 @@ public static class ScenarioLoader
                         r.Report(p, keyNode, "the effective model eliminates cavities at the sideband resonance; a cavity detuning needs model: full");
                     if (r.Number(value, p, Dimension.Frequency) is { } d && mode is not null) detunings[mode.Name] = d;
                 }
-                if (name is not null && duration is not null)
-                    result.Add(new Stage(name, duration.Value, tones.ToImmutable(), baths.ToImmutable(), detunings.ToImmutable()));
+                if (name is null || duration is null) continue;
+                var stage = new Stage(name, duration.Value, tones.ToImmutable(), baths.ToImmutable(), detunings.ToImmutable());
+                if (_lattice is not null && r.Problems.Count == 0)
+                {
+                    stage = LatticeLoader.Frame(_lattice.Lattice, _lattice.Modes, _lattice.Couplings, stage, drive);
+                    if (drive is not null) _drives[name] = drive;
+                }
+                result.Add(stage);
             }
             return result.ToImmutable();
         }
