@@ -102,10 +102,15 @@ public static class ScenarioFormat
         new Key("photons", new NumberKind("intracavity photon number", 0)),
         new Key("cooperativity", new NumberKind("C = 4G²/(κγ)", 0)));
 
+    private static Section CollectiveTone => new("collective_tone", "lattice: a tone driving one collective mode of the cavity network",
+        new Key("collective", new NumberKind("index of the collective mode (0 … sites − 1, by frequency)", 0, 99, Whole: true), Required: true),
+        new Key("sideband", new ChoiceKind("red (beam-splitter) or blue (two-mode squeezing)", "red", "blue"), Required: true),
+        new Key("photons", new NumberKind("photons in the driven collective mode", 0), Required: true));
+
     private static Section Stage => new("stage", "a stage of constant drives",
         new Key("name", new NameKind("stage name"), Required: true),
         new Key("duration", new QuantityKind(Dimension.Time, "stage duration, e.g. 2 ms", 0), Required: true),
-        new Key("tones", new ListKind("drive tones during the stage", Tone)),
+        new Key("tones", new ListKind("drive tones during the stage", new EitherKind("a tone on one cavity, or on a lattice's collective mode", Tone, CollectiveTone))),
         new Key("bath", new MapKind("bath occupancy overrides per mode during the stage", Bath)),
         new Key("detuning", new MapKind("rotating-frame detuning δ/2π per mode", new QuantityKind(Dimension.Frequency, "detuning, e.g. 3 Hz"))));
 
@@ -136,13 +141,56 @@ public static class ScenarioFormat
     private static Section Output => new("output", "the covariance table",
         new Key("step", new QuantityKind(Dimension.Time, "interval of the covariance table (default: total duration / 1000)", 0)));
 
+    private static Section LatticeCavity(bool required) => new(required ? "lattice_cavity" : "cell_cavity", required ? "every cell's cavity" : "this cell's cavity",
+        new Key("frequency", new QuantityKind(Dimension.Frequency, "cavity frequency, e.g. 6 GHz", 0), required),
+        new Key("linewidth", new QuantityKind(Dimension.Frequency, "cavity linewidth κ/2π, e.g. 1 MHz", 0), required),
+        new Key("bath", Bath, required));
+
+    private static Section LatticeDrum(bool required) => new("lattice_drum", "every cell's drum",
+        new Key("frequency", new QuantityKind(Dimension.Frequency, "drum frequency of cell 0, e.g. 5 MHz", 0), required),
+        new Key("spacing", new QuantityKind(Dimension.Frequency, "drum frequency step from cell to cell (any sign)")),
+        new Key("linewidth", new QuantityKind(Dimension.Frequency, "drum linewidth γ/2π, e.g. 1 Hz", 0), required),
+        new Key("bath", Bath, required),
+        new Key("g0", new QuantityKind(Dimension.Frequency, "single-photon coupling g0/2π, e.g. 20 Hz", 0), required));
+
+    private static Section Lattice => new("lattice", "cells of a cavity and a drum, generated: chain, honeycomb flake or explicit sites and bonds",
+        new Key("kind", new ChoiceKind("lattice kind", "chain", "honeycomb", "explicit"), Required: true),
+        new Key("sites", new NumberKind("chain: number of sites", 2, 100, Whole: true)),
+        new Key("couplings", new ListKind("hopping rates J/2π (chain: repeating pattern, honeycomb: 1 or 3 directions)", new QuantityKind(Dimension.Frequency, "hopping, e.g. 80 MHz"), 1, 8)),
+        new Key("boundary", new ChoiceKind("chain ends", "open", "periodic")),
+        new Key("next_nearest", new QuantityKind(Dimension.Frequency, "next-nearest hopping rate")),
+        new Key("shape", new ChoiceKind("honeycomb flake shape", "hexagon", "triangle", "rectangle")),
+        new Key("size", new NumberKind("honeycomb: plaquettes along an edge", 1, 20, Whole: true)),
+        new Key("rows", new NumberKind("honeycomb rectangle: rows of plaquettes", 1, 40, Whole: true)),
+        new Key("edges", new ChoiceKind("honeycomb hexagon: edge termination", "zigzag", "armchair")),
+        new Key("positions", new ListKind("explicit: [x, y] per site", new ListKind("a position", new NumberKind("coordinate"), 2, 2), 2)),
+        new Key("bonds", new ListKind("explicit: bonds between sites", new Section("bond", "a bond",
+            new Key("sites", new ListKind("the two sites", new NumberKind("site index", 0, Whole: true), 2, 2), Required: true),
+            new Key("rate", new QuantityKind(Dimension.Frequency, "hopping rate, e.g. 80 MHz"), Required: true),
+            new Key("kind", new ChoiceKind("bond kind", "nearest", "next-nearest"))))),
+        new Key("cavity", LatticeCavity(true), Required: true),
+        new Key("drum", LatticeDrum(true), Required: true),
+        new Key("disorder", new Section("disorder", "seeded Gaussian disorder per cell and bond",
+            new Key("frequency", new QuantityKind(Dimension.Frequency, "cavity frequency spread σ", 0)),
+            new Key("linewidth", new QuantityKind(Dimension.Frequency, "cavity linewidth spread σ", 0)),
+            new Key("coupling", new QuantityKind(Dimension.Frequency, "hopping spread σ", 0)),
+            new Key("seed", new NumberKind("disorder seed", 0, long.MaxValue, Whole: true)))),
+        new Key("cells", new MapKind("per-cell overrides by site index", new Section("cell", "one cell's own values",
+            new Key("cavity", LatticeCavity(false)),
+            new Key("drum", new Section("cell_drum", "this cell's drum",
+                new Key("frequency", new QuantityKind(Dimension.Frequency, "drum frequency", 0)),
+                new Key("linewidth", new QuantityKind(Dimension.Frequency, "drum linewidth", 0)),
+                new Key("bath", Bath),
+                new Key("g0", new QuantityKind(Dimension.Frequency, "single-photon coupling", 0))))))));
+
     /// <summary>The whole file.</summary>
     public static Section Root { get; } = new("scenario", $"Decohere scenario, format v{Version}",
         new Key("name", new NameKind("scenario name, also the default output directory results/<name>/", @"^[A-Za-z0-9][A-Za-z0-9 _.+()-]*$"), Required: true),
         new Key("model", new ChoiceKind("full (cavities kept) or effective (cavities eliminated)", "full", "effective")),
         new Key("sideband_corrections", new BooleanKind("effective model: add the off-resonant scattering rates")),
-        new Key("modes", new MapKind("modes by name", Mode, MaxEntries: 200), Required: true),
+        new Key("modes", new MapKind("modes by name (required unless lattice: generates them)", Mode, MaxEntries: 200)),
         new Key("couplings", new ListKind("static couplings", Coupling)),
+        new Key("lattice", Lattice),
         new Key("initial", new MapKind("initial state per mode (others start in their bath's thermal state)", Initial)),
         new Key("stages", new ListKind("stages in time order", Stage, MinItems: 1), Required: true),
         new Key("readout", Readout),

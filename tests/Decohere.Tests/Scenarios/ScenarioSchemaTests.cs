@@ -69,17 +69,57 @@ public class ScenarioSchemaTests
         seed: 3
         """;
 
+    // Every lattice section once (a lattice replaces modes and couplings, so it needs a file of its own).
+    private const string EveryLatticeSection = """
+        name: all-lattice-sections
+        model: full
+        lattice:
+          kind: chain
+          sites: 4
+          couplings: [80 MHz, 120 MHz]
+          cavity: { frequency: 6 GHz, linewidth: 1 MHz, bath: { occupancy: 0.05 } }
+          drum: { frequency: 5 MHz, spacing: 50 kHz, linewidth: 1 Hz, bath: { temperature: 15 mK }, g0: 20 Hz }
+          disorder: { frequency: 1 MHz, seed: 2 }
+          cells: { "1": { cavity: { linewidth: 2 MHz }, drum: { g0: 25 Hz } } }
+        stages:
+          - name: cool
+            duration: 1 ms
+            tones: [{ collective: 0, sideband: red, photons: 1e6 }]
+        """;
+
+    private const string ExplicitBonds = """
+        name: explicit-bonds
+        model: full
+        lattice:
+          kind: explicit
+          positions: [[0, 0], [1, 0], [2, 0]]
+          bonds: [{ sites: [0, 1], rate: 80 MHz }, { sites: [1, 2], rate: 120 MHz }, { sites: [0, 2], rate: 5 MHz, kind: next-nearest }]
+          cavity: { frequency: 6 GHz, linewidth: 1 MHz, bath: { occupancy: 0.05 } }
+          drum: { frequency: 5 MHz, linewidth: 1 Hz, bath: { temperature: 15 mK }, g0: 20 Hz }
+        stages:
+          - name: wait
+            duration: 1 ms
+        """;
+
     [Fact]
     public void TheLoaderAcceptsExactlyTheDefinedKeysOfEverySection()
     {
-        Assert.Empty(SchemaValidator.Validate(Schema, Everything));
-        var stream = new YamlStream();
-        stream.Load(new StringReader(Everything));
         var found = new List<(ScenarioFormat.Section Section, YamlMappingNode Node)>();
-        Walk(ScenarioFormat.Root, stream.Documents[0].RootNode, found);
+        var owners = new Dictionary<YamlMappingNode, YamlStream>(ReferenceEqualityComparer.Instance);
+        foreach (string text in new[] { Everything, EveryLatticeSection, ExplicitBonds })
+        {
+            Assert.Empty(SchemaValidator.Validate(Schema, text));
+            ScenarioLoader.Parse(text);
+            var stream = new YamlStream();
+            stream.Load(new StringReader(text));
+            int before = found.Count;
+            Walk(ScenarioFormat.Root, stream.Documents[0].RootNode, found);
+            foreach (var entry in found.Skip(before)) owners[entry.Node] = stream;
+        }
         Assert.Equal(ScenarioFormat.Sections().Keys.Order(), found.Select(f => f.Section.Name).Distinct().Order());
         foreach (var (section, node) in found)
         {
+            var stream = owners[node];
             // An unknown key makes the loader name the keys it allows there (YamlReader.Mapping's message).
             var probe = new YamlScalarNode("zz_probe");
             node.Children.Add(probe, new YamlScalarNode("1"));
@@ -108,8 +148,11 @@ public class ScenarioSchemaTests
             case (ScenarioFormat.ListKind list, YamlSequenceNode seq):
                 foreach (var item in seq.Children) Walk(list.Item, item, found);
                 break;
-            case (ScenarioFormat.EitherKind either, YamlMappingNode):
-                foreach (var form in either.Forms.OfType<ScenarioFormat.Section>()) Walk(form, node, found);
+            case (ScenarioFormat.EitherKind either, YamlMappingNode m):
+                // The form the node is written in: the section whose required keys it has.
+                foreach (var form in either.Forms.OfType<ScenarioFormat.Section>()
+                    .Where(f => f.Keys.Where(k => k.Required).All(k => m.Children.ContainsKey(new YamlScalarNode(k.Name)))).Take(1))
+                    Walk(form, node, found);
                 break;
         }
     }
