@@ -401,7 +401,10 @@ public sealed class Dynamics
     /// <summary>Exact discretisations per (stage, gap) for one walk; gaps equal up to the rounding of the times share one.</summary>
     private sealed class StepCache(Dynamics owner)
     {
-        private readonly Dictionary<int, List<(double Gap, int Id)>> _byStage = [];
+        // Per stage: the gaps discretised so far, ordered, and the last one used (evenly spaced times hit it every time);
+        // a lookup is O(log n), so a walk through many distinct gaps (a data file of 10⁵ delays) stays O(n log n).
+        private readonly Dictionary<int, SortedSet<(double Gap, int Id)>> _byStage = [];
+        private readonly Dictionary<int, (double Gap, int Id)> _last = [];
 
         public List<Discretization> Steps { get; } = [];
 
@@ -414,19 +417,22 @@ public sealed class Dynamics
                 used = gap;
                 return Steps.Count - 1;
             }
-            if (!_byStage.TryGetValue(stage, out var list)) _byStage[stage] = list = [];
-            // Most recent first: evenly spaced times hit on the first comparison.
-            for (int j = list.Count - 1; j >= 0; j--)
+            double tolerance = GapRounding * Math.Abs(time);
+            if (_last.TryGetValue(stage, out var last) && Math.Abs(last.Gap - gap) <= tolerance)
             {
-                if (Math.Abs(list[j].Gap - gap) <= GapRounding * Math.Abs(time))
-                {
-                    used = list[j].Gap;
-                    return list[j].Id;
-                }
+                used = last.Gap;
+                return last.Id;
+            }
+            if (!_byStage.TryGetValue(stage, out var known)) _byStage[stage] = known = [];
+            foreach (var hit in known.GetViewBetween((gap - tolerance, int.MinValue), (gap + tolerance, int.MaxValue)))
+            {
+                _last[stage] = hit;
+                used = hit.Gap;
+                return hit.Id;
             }
             var model = owner.Models[stage];
             Steps.Add(VanLoan.Discretize(model.Drift, model.Diffusion, gap));
-            list.Add((gap, Steps.Count - 1));
+            known.Add(_last[stage] = (gap, Steps.Count - 1));
             used = gap;
             return Steps.Count - 1;
         }
