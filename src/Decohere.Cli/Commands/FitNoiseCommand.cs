@@ -30,7 +30,7 @@ public static class FitNoiseCommand
             var file = parse.GetValue(data)!;
             var points = await FitDataReader.ReadCalibrationAsync(file.FullName, options, cancel);
             var expected = parse.GetValue(scenario) is { } sf ? ReadoutChains.For(Cli.Load(sf)) : null;
-            var result = CalibrationAnalysis.Solve(points, file.Name, new CalibrationSettings { Expected = expected });
+            var result = CalibrationAnalysis.Solve(points, file.Name, new CalibrationSettings { Expected = expected }, cancel);
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "fit-noise");
             var paths = await Cli.WriteOwned(new CalibrationReport(), result, dir, OutputSet.FitNoise, cancel);
             if (!parse.GetValue(quiet))

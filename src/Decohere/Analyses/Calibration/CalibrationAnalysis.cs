@@ -59,7 +59,9 @@ public static class CalibrationAnalysis
 {
     /// <summary>Fits gain and added noise to the points read from <paramref name="source"/> (named in messages).</summary>
     /// <exception cref="InputException">A setting is out of range, or fewer than two distinct occupancies.</exception>
-    public static CalibrationResult Solve(IReadOnlyList<CalibrationPoint> points, string source = "data", CalibrationSettings? settings = null)
+    /// <exception cref="OperationCanceledException"><paramref name="cancel"/> was set (checked at every likelihood evaluation).</exception>
+    public static CalibrationResult Solve(IReadOnlyList<CalibrationPoint> points, string source = "data", CalibrationSettings? settings = null,
+        CancellationToken cancel = default)
     {
         settings ??= new CalibrationSettings();
         settings.Validate();
@@ -88,7 +90,7 @@ public static class CalibrationAnalysis
         }
         var ml = MaximumLikelihood.Fit(Deviance,
             [new FitParameter("gain", slope, ParameterDomain.Positive), new FitParameter("added_noise", intercept, ParameterDomain.NonNegative)],
-            new MaximumLikelihoodSettings { Confidence = confidence, Parallel = parallel, Starts = 2 });
+            new MaximumLikelihoodSettings { Confidence = confidence, Parallel = parallel, Starts = 2, Cancel = cancel });
         double z = Normal.InvCDF(0, 1, 0.5 + confidence / 2);
         FittedQuantity Of(int k, string name)
         {

@@ -52,6 +52,15 @@ public class CalibrationAnalysisTests
     }
 
     [Fact]
+    public void AStopRequestEndsTheCalibrationFit()
+    {
+        using var stop = new CancellationTokenSource();
+        stop.Cancel();
+        Assert.ThrowsAny<OperationCanceledException>(() =>
+            CalibrationAnalysis.Solve(Points(1000, null), settings: new CalibrationSettings { Parallel = false }, cancel: stop.Token));
+    }
+
+    [Fact]
     public void OneOccupancyCannotSeparateGainFromNoise() =>
         Assert.Contains("two different prepared occupancies",
             Assert.Throws<InputException>(() => CalibrationAnalysis.Solve([new CalibrationPoint(1, 2, 2, 100, "row 1"), new CalibrationPoint(1, 2.1, 2, 100, "row 2")])).Message);
