@@ -29,12 +29,13 @@ public static class CoolingCommand
         var g0 = new Option<string?>("--g0") { Description = "Single-photon coupling g0/2π, e.g. 100 Hz (needed with --phase-noise)." };
         var data = new Option<FileInfo?>("--data") { Description = "Measured occupancies (CSV or Parquet: cooperativity, occupancy, optional occupancy_err) to fit the heating law a·C^b to." };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("cooling",
             "Steady occupancy against the cooperativity of a red tone with drive heating and phase noise; the minimum, what limits it, " +
             "and a fit of the heating law to measured points; writes cooling.json, cooling.parquet and cooling.png.")
         {
-            scenario, range, stage, tone, phase, filter, g0, data, output, quiet,
+            scenario, range, stage, tone, phase, filter, g0, data, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -51,7 +52,7 @@ public static class CoolingCommand
             var points = parse.GetValue(data) is { } file ? await ReadPointsAsync(file.FullName, cancel) : null;
             var result = CoolingAnalysis.Solve(s, settings, points);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new CoolingReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Cooling, cancel);
+            var paths = await Cli.WriteOwned(new CoolingReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Cooling, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

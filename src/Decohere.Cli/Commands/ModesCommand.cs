@@ -26,12 +26,13 @@ public static class ModesCommand
         var frequencyError = new Option<string>("--frequency-error") { Description = "Standard error of each measured collective-mode frequency (default 20 kHz).", DefaultValueFactory = _ => "20 kHz" };
         var seed = new Option<long?>("--seed") { Description = "Seed of the simulated measurement (default: the scenario's)." };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("modes",
             "Collective modes of a lattice scenario's cavities (frequencies, linewidths, mode shapes, edge states, the chain's winding number " +
             "and Zak phase); writes modes.parquet, modes.json and modes.png; with --spectroscopy also the drums' damping under each mode.")
         {
-            scenario, spectroscopy, photons, averages, points, frequencyError, seed, output, quiet,
+            scenario, spectroscopy, photons, averages, points, frequencyError, seed, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -53,13 +54,13 @@ public static class ModesCommand
                 measured = SpectroscopyAnalysis.Solve(s, settings);
                 modes = measured.Modes;
                 cancel.ThrowIfCancellationRequested();
-                paths = await Cli.WriteOwned(new ModesSpectroscopyReport(), measured, directory, OutputSet.Modes, cancel);
+                paths = await Cli.WriteOwned(new ModesSpectroscopyReport(), measured, directory, OutputSet.Modes, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             }
             else
             {
                 modes = ModesAnalysis.Solve(s, new ModesSettings());
                 cancel.ThrowIfCancellationRequested();
-                paths = await Cli.WriteOwned(new ModesReport(), modes, directory, OutputSet.Modes, cancel);
+                paths = await Cli.WriteOwned(new ModesReport(), modes, directory, OutputSet.Modes, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             }
             if (!parse.GetValue(quiet))
             {

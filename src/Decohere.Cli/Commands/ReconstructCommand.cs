@@ -21,12 +21,13 @@ public static class ReconstructCommand
         var nextNearest = new Option<bool>("--next-nearest") { Description = "Also fit a coupling between every pair of sites with a common neighbour." };
         var confidence = new Option<double>("--confidence") { Description = "Two-sided confidence of the intervals (default 0.95).", DefaultValueFactory = _ => 0.95 };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("reconstruct",
             "Fit the coupling matrix (on-site, nearest, next-nearest terms) of a lattice's cavities to measured mode frequencies and participations " +
             "by maximum likelihood; intervals and the combinations the data do not determine; writes reconstruct.json and reconstruct.parquet.")
         {
-            scenario, data, noOnsite, nextNearest, confidence, output, quiet,
+            scenario, data, noOnsite, nextNearest, confidence, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -40,7 +41,7 @@ public static class ReconstructCommand
             };
             var result = ReconstructionAnalysis.Solve(s, measured, settings);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new ReconstructReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Reconstruct, cancel);
+            var paths = await Cli.WriteOwned(new ReconstructReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Reconstruct, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

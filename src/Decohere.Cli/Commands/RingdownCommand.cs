@@ -23,12 +23,13 @@ public static class RingdownCommand
         var unit = new Option<string?>("--time-unit") { Description = "Unit of the time column (s, ms, us, ns; default s)." };
         var confidence = new Option<double>("--confidence") { Description = "Confidence of the intervals (default 0.95).", DefaultValueFactory = _ => 0.95 };
         var output = new Option<DirectoryInfo?>("--out") { Description = "Output directory (default: results/ringdown-<data file name>/)." };
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("ringdown",
             "Fit a ring-down (amplitude or energy against time) with the exact likelihood of its noise: γ, linewidth, Q, thermal floor, " +
             "profile-likelihood intervals; writes ringdown.json, ringdown.parquet and ringdown.png.")
         {
-            data, frequency, sigma, unit, confidence, output, quiet,
+            data, frequency, sigma, unit, confidence, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -43,7 +44,7 @@ public static class RingdownCommand
             var result = RingdownAnalysis.Solve(points, settings);
             cancel.ThrowIfCancellationRequested();
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "ringdown-" + Path.GetFileNameWithoutExtension(file.Name));
-            var paths = await Cli.WriteOwned(new RingdownReport(), result, dir, OutputSet.Ringdown, cancel);
+            var paths = await Cli.WriteOwned(new RingdownReport(), result, dir, OutputSet.Ringdown, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

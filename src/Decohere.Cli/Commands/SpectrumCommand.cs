@@ -23,12 +23,13 @@ public static class SpectrumCommand
         var span = new Option<string?>("--span") { Description = "Largest offset from each mode's frequency, e.g. 2 MHz (default: 1000 × the stage's fastest rate)." };
         var efficiency = new Option<double>("--efficiency") { Description = "Transmission from each cavity's port to the detector, in (0, 1] (default 1).", DefaultValueFactory = _ => 1.0 };
         var output = Cli.OutOption();
+        var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var command = new Command("spectrum",
             "Stationary noise spectra of every mode quadrature and cavity output in a stage, sideband powers and asymmetry; " +
             "writes spectrum.json, spectrum.parquet and spectrum.png.")
         {
-            scenario, stage, points, span, efficiency, output, quiet,
+            scenario, stage, points, span, efficiency, output, format, quiet,
         };
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
@@ -42,7 +43,7 @@ public static class SpectrumCommand
             };
             var result = SpectrumAnalysis.Solve(s, settings);
             cancel.ThrowIfCancellationRequested();
-            var paths = await Cli.WriteOwned(new SpectrumReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Spectrum, cancel);
+            var paths = await Cli.WriteOwned(new SpectrumReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Spectrum, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))
             {
                 console.Out.Write(Table(result));

@@ -28,19 +28,19 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json", "fit-noise.png", "fit-noise.svg"]);
 
     /// <summary><c>spectrum</c>.</summary>
-    public static OutputSet Spectrum { get; } = new("spectrum", ["spectrum.json", "spectrum.parquet", "spectrum.png"]);
+    public static OutputSet Spectrum { get; } = new("spectrum", ["spectrum.json", "spectrum.parquet", "spectrum.png", "spectrum.svg", "spectrum.csv"]);
 
     /// <summary><c>cooling</c>.</summary>
-    public static OutputSet Cooling { get; } = new("cooling", ["cooling.json", "cooling.parquet", "cooling.png"]);
+    public static OutputSet Cooling { get; } = new("cooling", ["cooling.json", "cooling.parquet", "cooling.png", "cooling.svg", "cooling.csv"]);
 
     /// <summary><c>ringdown</c>.</summary>
-    public static OutputSet Ringdown { get; } = new("ringdown", ["ringdown.json", "ringdown.parquet", "ringdown.png"]);
+    public static OutputSet Ringdown { get; } = new("ringdown", ["ringdown.json", "ringdown.parquet", "ringdown.png", "ringdown.svg", "ringdown.csv"]);
 
     /// <summary><c>modes</c>: collective modes of a lattice (with <c>--spectroscopy</c> also the simulated drum spectroscopy).</summary>
-    public static OutputSet Modes { get; } = new("modes", ["modes.parquet", "modes.json", "modes.png", "spectroscopy.parquet", "spectroscopy.png"]);
+    public static OutputSet Modes { get; } = new("modes", ["modes.parquet", "modes.json", "modes.png", "modes.svg", "modes.csv", "spectroscopy.parquet", "spectroscopy.png", "spectroscopy.svg", "spectroscopy.csv"]);
 
     /// <summary><c>reconstruct</c>.</summary>
-    public static OutputSet Reconstruct { get; } = new("reconstruct", ["reconstruct.json", "reconstruct.parquet"]);
+    public static OutputSet Reconstruct { get; } = new("reconstruct", ["reconstruct.json", "reconstruct.parquet", "reconstruct.csv"]);
 
     /// <summary>An unsharded <c>sweep</c>, or <c>merge</c> (which writes the same two files from the parts).</summary>
     public static OutputSet Sweep { get; } = new("sweep", ["sweep.parquet", "sweep.png", "sweep.svg", "sweep.csv"]);

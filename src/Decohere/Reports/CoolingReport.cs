@@ -6,7 +6,7 @@ using Decohere.IO;
 
 namespace Decohere.Reports;
 
-/// <summary>Writes cooling.parquet, cooling.json and cooling.png, each atomically.</summary>
+/// <summary>Writes cooling.parquet, cooling.json and cooling.png/.svg, each atomically.</summary>
 public sealed class CoolingReport : IReport<CoolingResult>
 {
     /// <summary>Columns of cooling.parquet: one row per cooperativity; occupancies in quanta, the shares sum to occupancy.</summary>

@@ -3,13 +3,14 @@ using System.Text.Json.Nodes;
 using ScottPlot;
 using Decohere.Analyses.Lattices;
 using Decohere.IO;
+using Decohere.Reports.Plotting;
 using Decohere.Scenarios;
 
 namespace Decohere.Reports;
 
 /// <summary>
 /// Writes modes.parquet (one row per collective mode and site), modes.json (per mode and the chain's topology) and
-/// modes.png (spectrum and selected mode shapes drawn on the lattice), each atomically.
+/// modes.png/.svg (spectrum and selected mode shapes drawn on the lattice), each atomically.
 /// </summary>
 public sealed class ModesReport : IReport<ModesResult>
 {
@@ -25,7 +26,7 @@ public sealed class ModesReport : IReport<ModesResult>
     public async Task<IReadOnlyList<string>> WriteAsync(ModesResult result, string directory, CancellationToken cancel = default)
     {
         Directory.CreateDirectory(directory);
-        string table = Path.Combine(directory, "modes.parquet"), json = Path.Combine(directory, "modes.json"), png = Path.Combine(directory, "modes.png");
+        string table = Path.Combine(directory, "modes.parquet"), json = Path.Combine(directory, "modes.json");
         var sites = result.Lattice.Sites;
         var rows = result.Modes.SelectMany(m => sites.Select(s => (m, s))).ToArray();
         Array[] data =
@@ -45,9 +46,7 @@ public sealed class ModesReport : IReport<ModesResult>
         cancel.ThrowIfCancellationRequested();
         SummaryJson.Write(Json(result), json);
         cancel.ThrowIfCancellationRequested();
-        var plot = Plot(result);
-        AtomicFile.Write(png, tmp => plot.SavePng(tmp, 1200, 420 * (1 + (Selected(result).Length + 1) / 2)));
-        return [table, json, png];
+        return [table, json, .. Figure.Save(Plot(result), Path.Combine(directory, "modes"), 1200, 420 * (1 + (Selected(result).Length + 1) / 2))];
     }
 
     /// <summary>Edge type as written in files: bulk, zigzag, armchair, boundary.</summary>

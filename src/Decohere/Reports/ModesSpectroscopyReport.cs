@@ -2,13 +2,14 @@ using System.Globalization;
 using ScottPlot;
 using Decohere.Analyses.Lattices;
 using Decohere.IO;
+using Decohere.Reports.Plotting;
 
 namespace Decohere.Reports;
 
 /// <summary>
 /// Writes the collective modes (as <see cref="ModesReport"/>) and the spectroscopy: spectroscopy.parquet, one row per
 /// collective mode and drum, the measured columns first under the names <c>decohere reconstruct</c> reads, and
-/// spectroscopy.png (true and measured participation as maps over mode and site).
+/// spectroscopy.png/.svg (true and measured participation as maps over mode and site).
 /// </summary>
 public sealed class ModesSpectroscopyReport : IReport<SpectroscopyResult>
 {
@@ -30,7 +31,7 @@ public sealed class ModesSpectroscopyReport : IReport<SpectroscopyResult>
     public async Task<IReadOnlyList<string>> WriteAsync(SpectroscopyResult result, string directory, CancellationToken cancel = default)
     {
         var paths = (await new ModesReport().WriteAsync(result.Modes, directory, cancel)).ToList();
-        string table = Path.Combine(directory, "spectroscopy.parquet"), png = Path.Combine(directory, "spectroscopy.png");
+        string table = Path.Combine(directory, "spectroscopy.parquet");
         var r = result.Rows;
         var s = result.Settings;
         Array[] data =
@@ -64,9 +65,8 @@ public sealed class ModesSpectroscopyReport : IReport<SpectroscopyResult>
         layout.Set(truth, new GridCell(0, 0, 1, 2));
         layout.Set(measured, new GridCell(0, 1, 1, 2));
         multi.Layout = layout;
-        AtomicFile.Write(png, tmp => multi.SavePng(tmp, 1400, 650));
         paths.Add(table);
-        paths.Add(png);
+        paths.AddRange(Figure.Save(multi, Path.Combine(directory, "spectroscopy"), 1400, 650));
         return paths;
     }
 

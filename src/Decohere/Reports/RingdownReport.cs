@@ -6,7 +6,7 @@ using Decohere.IO;
 
 namespace Decohere.Reports;
 
-/// <summary>Writes ringdown.parquet, ringdown.json and ringdown.png, each atomically.</summary>
+/// <summary>Writes ringdown.parquet, ringdown.json and ringdown.png/.svg, each atomically.</summary>
 public sealed class RingdownReport : IReport<RingdownResult>
 {
     /// <summary>Columns of ringdown.parquet: the data, the fitted mean and the standardised residual per point.</summary>

@@ -4,11 +4,12 @@ using System.Text.Json.Nodes;
 using Decohere.Analyses.Spectra;
 using Decohere.Core;
 using Decohere.IO;
+using Decohere.Reports.Plotting;
 using Decohere.Scenarios;
 
 namespace Decohere.Reports;
 
-/// <summary>Writes spectrum.parquet, spectrum.json and spectrum.png, each atomically.</summary>
+/// <summary>Writes spectrum.parquet, spectrum.json and spectrum.png/.svg, each atomically.</summary>
 public sealed class SpectrumReport : IReport<SpectrumResult>
 {
     /// <summary>
@@ -67,21 +68,19 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
     }
 
     /// <summary>
-    /// Writes the three files of a lab analysis, STEM.parquet (by <paramref name="table"/>), STEM.json and STEM.png, each
-    /// atomically and in that order (the summary after the table it describes); returns the paths json, table, png.
+    /// Writes the files of a lab analysis, STEM.parquet (by <paramref name="table"/>), STEM.json and STEM.png/.svg, each
+    /// atomically and in that order (the summary after the table it describes); returns the paths json, table, png, svg.
     /// </summary>
     internal static async Task<IReadOnlyList<string>> WriteFiles(string directory, string stem, Func<string, Task> table, Func<JsonObject> json,
         Func<Plot> plot, CancellationToken cancel)
     {
         Directory.CreateDirectory(directory);
-        string parquet = Path.Combine(directory, stem + ".parquet"), summary = Path.Combine(directory, stem + ".json"), png = Path.Combine(directory, stem + ".png");
+        string parquet = Path.Combine(directory, stem + ".parquet"), summary = Path.Combine(directory, stem + ".json");
         await table(parquet);
         cancel.ThrowIfCancellationRequested();
         SummaryJson.Write(json(), summary);
         cancel.ThrowIfCancellationRequested();
-        var figure = plot();
-        AtomicFile.Write(png, tmp => figure.SavePng(tmp, 1200, 700));
-        return [summary, parquet, png];
+        return [summary, parquet, .. Figure.Save(plot(), Path.Combine(directory, stem), 1200, 700)];
     }
 
     /// <summary>The content of spectrum.json.</summary>

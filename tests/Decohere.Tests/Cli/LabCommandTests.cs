@@ -29,6 +29,20 @@ public sealed class LabCommandTests : IDisposable
     private static string Scenario(string name) => Path.Combine(TestPaths.RepositoryRoot, "scenarios", name);
 
     [Fact]
+    public async Task ASpectrumWithCsvWritesTheSameTableTwiceAndItsPlotAsPngAndSvg()
+    {
+        Assert.Equal(0, await Invoke("spectrum", Scenario("demo.yaml"), "--stage", "squeeze", "--points", "50", "--out", _dir, "--format", "parquet,csv", "--quiet"));
+        foreach (var f in new[] { "spectrum.parquet", "spectrum.csv", "spectrum.json", "spectrum.png", "spectrum.svg" })
+            Assert.True(File.Exists(Path.Combine(_dir, f)), f);
+        // DuckDB, an independent reader, finds the same rows and the same integral in both files.
+        string sql = "SELECT count(*), sum(s_xx) FROM ";
+        var parquet = DuckDb.Query(sql + $"read_parquet({DuckDb.Literal(Path.Combine(_dir, "spectrum.parquet"))})")[0];
+        var csv = DuckDb.Query(sql + $"read_csv({DuckDb.Literal(Path.Combine(_dir, "spectrum.csv"))}, header = true)")[0];
+        Assert.Equal(parquet[0], csv[0]);
+        Assert.Equal(Convert.ToDouble(parquet[1]), Convert.ToDouble(csv[1]), 12);
+    }
+
+    [Fact]
     public async Task CoolingOnTheExampleWritesItsFilesAndFindsAMinimum()
     {
         Assert.Equal(0, await Invoke("cooling", Scenario("drum-cooling.yaml"), "--cooperativity", "1:1e5:21:log", "--out", _dir, "--quiet"));

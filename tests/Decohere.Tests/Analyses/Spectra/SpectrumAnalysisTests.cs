@@ -115,7 +115,7 @@ public class SpectrumAnalysisTests
         var result = SpectrumAnalysis.Solve(scenario, new SpectrumSettings { PointsPerSide = 300 });
         string dir = TestPaths.NewTempDirectory();
         var paths = await new SpectrumReport().WriteAsync(result, dir);
-        Assert.Equal(3, paths.Count);
+        Assert.Equal(["spectrum.json", "spectrum.parquet", "spectrum.png", "spectrum.svg"], paths.Select(Path.GetFileName));
         string file = DuckDb.Literal(Path.Combine(dir, "spectrum.parquet"));
         var names = DuckDb.Query($"SELECT column_name FROM (DESCRIBE SELECT * FROM read_parquet({file}))").Select(r => (string)r[0]!).ToArray();
         Assert.Equal(["frequency_hz", "mode", "field", "tone_offset_hz", "s_xx", "s_pp", "s_normal", "s_antinormal"], names);
