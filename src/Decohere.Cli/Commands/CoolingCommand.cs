@@ -49,7 +49,7 @@ public static class CoolingCommand
                 FilterDb = Cli.Quantity(parse.GetValue(filter)!, Dimension.Decibel, "filter"),
                 SinglePhotonCouplingHz = parse.GetValue(g0) is { } text ? Cli.Quantity(text, Dimension.Frequency, "single-photon coupling") : null,
             };
-            var points = parse.GetValue(data) is { } file ? await ReadPointsAsync(file.FullName, cancel) : null;
+            var points = parse.GetValue(data) is { } file ? await LabDataReader.ReadCoolingAsync(file.FullName, cancel) : null;
             var result = CoolingAnalysis.Solve(s, settings, points);
             cancel.ThrowIfCancellationRequested();
             var paths = await Cli.WriteOwned(new CoolingReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Cooling, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
@@ -70,24 +70,6 @@ public static class CoolingCommand
         ["cooperativity"] = "--cooperativity", ["stage"] = "--stage", ["tone"] = "--tone", ["phase noise"] = "--phase-noise",
         ["filter"] = "--filter", ["single-photon coupling"] = "--g0",
     };
-
-    /// <summary>Reads (cooperativity, occupancy[, occupancy_err]) rows through the project's data table reader.</summary>
-    /// <exception cref="InputException">A column is missing or a value is not a finite number.</exception>
-    public static async Task<IReadOnlyList<CoolingPoint>> ReadPointsAsync(string path, CancellationToken cancel)
-    {
-        var table = await DataTable.LoadAsync(path, cancel);
-        foreach (string column in new[] { "cooperativity", "occupancy" })
-            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
-        var c = table.Numbers("cooperativity", "cooperativity");
-        var n = table.Numbers("occupancy", "occupancy");
-        var err = table.Has("occupancy_err") ? table.Numbers("occupancy_err", "occupancy_err") : null;
-        for (int r = 0; r < c.Length; r++)
-        {
-            if (!(c[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column cooperativity: {c[r]} must be > 0");
-            if (err is not null && !(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column occupancy_err: {err[r]} must be > 0");
-        }
-        return [.. c.Select((x, r) => new CoolingPoint(x, n[r], err?[r]))];
-    }
 
     /// <summary>The minimum and, with data, the fitted heating law.</summary>
     public static Table Table(CoolingResult result)

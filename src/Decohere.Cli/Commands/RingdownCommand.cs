@@ -1,5 +1,4 @@
 using Spectre.Console;
-using System.Collections.Immutable;
 using System.CommandLine;
 using Decohere.Analyses.Ringdown;
 using Decohere.Core;
@@ -40,7 +39,7 @@ public static class RingdownCommand
                 Confidence = parse.GetValue(confidence),
             };
             double scale = parse.GetValue(unit) is { } u ? Cli.Quantity("1 " + u, Dimension.Time, "time unit") : 1;
-            var points = await ReadAsync(file.FullName, scale, parse.GetValue(sigma), cancel);
+            var points = await LabDataReader.ReadRingdownAsync(file.FullName, scale, parse.GetValue(sigma), cancel);
             var result = RingdownAnalysis.Solve(points, settings);
             cancel.ThrowIfCancellationRequested();
             string dir = parse.GetValue(output)?.FullName ?? Path.Combine("results", "ringdown-" + Path.GetFileNameWithoutExtension(file.Name));
@@ -61,26 +60,6 @@ public static class RingdownCommand
     {
         ["frequency"] = "--frequency", ["confidence"] = "--confidence", ["time unit"] = "--time-unit", ["sigma"] = "--sigma",
     };
-
-    /// <summary>Reads a ring-down through the project's data table reader: time_s and amplitude [sigma] or energy.</summary>
-    /// <exception cref="InputException">The columns are missing or ambiguous, or a value is not a finite number.</exception>
-    public static async Task<RingdownData> ReadAsync(string path, double timeScale, double? sigma, CancellationToken cancel)
-    {
-        var table = await DataTable.LoadAsync(path, cancel);
-        string columns = string.Join(", ", table.ColumnNames);
-        if (!table.Has("time_s")) throw new InputException($"data file {table.Source}: missing column 'time_s'; columns: {columns}");
-        bool amplitude = table.Has("amplitude"), energy = table.Has("energy");
-        if (amplitude == energy)
-            throw new InputException($"data file {table.Source}: give exactly one of the columns 'amplitude' or 'energy'; columns: {columns}");
-        if (sigma is { } s && !(s > 0 && double.IsFinite(s))) throw new InputException($"sigma: {s} must be finite and > 0");
-        if (energy && (sigma is not null || table.Has("sigma")))
-            throw new InputException($"sigma: an energy ring-down has exponential (thermal) noise, not a Gaussian σ; drop it or give amplitudes");
-        ImmutableArray<double> times = [.. table.Numbers("time_s", "time_s").Select(t => t * timeScale)];
-        ImmutableArray<double> values = [.. table.Numbers(amplitude ? "amplitude" : "energy", amplitude ? "amplitude" : "energy")];
-        ImmutableArray<double>? sigmas = sigma is { } common ? [.. Enumerable.Repeat(common, values.Length)]
-            : table.Has("sigma") ? [.. table.Numbers("sigma", "sigma")] : null;
-        return new RingdownData(table.Source, amplitude ? RingdownKind.Amplitude : RingdownKind.Energy, times, values, sigmas);
-    }
 
     private static string Interval(RingdownEstimate e, string format) => Markup.Escape(
         $"{e.Value.ToString(format)} ± {e.StandardError:G2}  [{(e.Low is { } lo ? lo.ToString(format) : "—")}, {(e.High is { } hi ? hi.ToString(format) : "—")}]");

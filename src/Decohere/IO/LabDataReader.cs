@@ -1,0 +1,48 @@
+using System.Collections.Immutable;
+using Decohere.Analyses.Cooling;
+using Decohere.Analyses.Ringdown;
+using Decohere.Core;
+
+namespace Decohere.IO;
+
+/// <summary>Data files of the lab analyses (cooling curves, ring-downs), read through <see cref="DataTable"/> (CSV, Parquet or HDF5).</summary>
+public static class LabDataReader
+{
+    /// <summary>Reads (cooperativity, occupancy[, occupancy_err]) rows through the project's data table reader.</summary>
+    /// <exception cref="InputException">A column is missing or a value is not a finite number.</exception>
+    public static async Task<IReadOnlyList<CoolingPoint>> ReadCoolingAsync(string path, CancellationToken cancel)
+    {
+        var table = await DataTable.LoadAsync(path, cancel);
+        foreach (string column in new[] { "cooperativity", "occupancy" })
+            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
+        var c = table.Numbers("cooperativity", "cooperativity");
+        var n = table.Numbers("occupancy", "occupancy");
+        var err = table.Has("occupancy_err") ? table.Numbers("occupancy_err", "occupancy_err") : null;
+        for (int r = 0; r < c.Length; r++)
+        {
+            if (!(c[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column cooperativity: {c[r]} must be > 0");
+            if (err is not null && !(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column occupancy_err: {err[r]} must be > 0");
+        }
+        return [.. c.Select((x, r) => new CoolingPoint(x, n[r], err?[r]))];
+    }
+
+    /// <summary>Reads a ring-down through the project's data table reader: time_s and amplitude [sigma] or energy.</summary>
+    /// <exception cref="InputException">The columns are missing or ambiguous, or a value is not a finite number.</exception>
+    public static async Task<RingdownData> ReadRingdownAsync(string path, double timeScale, double? sigma, CancellationToken cancel)
+    {
+        var table = await DataTable.LoadAsync(path, cancel);
+        string columns = string.Join(", ", table.ColumnNames);
+        if (!table.Has("time_s")) throw new InputException($"data file {table.Source}: missing column 'time_s'; columns: {columns}");
+        bool amplitude = table.Has("amplitude"), energy = table.Has("energy");
+        if (amplitude == energy)
+            throw new InputException($"data file {table.Source}: give exactly one of the columns 'amplitude' or 'energy'; columns: {columns}");
+        if (sigma is { } s && !(s > 0 && double.IsFinite(s))) throw new InputException($"sigma: {s} must be finite and > 0");
+        if (energy && (sigma is not null || table.Has("sigma")))
+            throw new InputException($"sigma: an energy ring-down has exponential (thermal) noise, not a Gaussian σ; drop it or give amplitudes");
+        ImmutableArray<double> times = [.. table.Numbers("time_s", "time_s").Select(t => t * timeScale)];
+        ImmutableArray<double> values = [.. table.Numbers(amplitude ? "amplitude" : "energy", amplitude ? "amplitude" : "energy")];
+        ImmutableArray<double>? sigmas = sigma is { } common ? [.. Enumerable.Repeat(common, values.Length)]
+            : table.Has("sigma") ? [.. table.Numbers("sigma", "sigma")] : null;
+        return new RingdownData(table.Source, amplitude ? RingdownKind.Amplitude : RingdownKind.Energy, times, values, sigmas);
+    }
+}
