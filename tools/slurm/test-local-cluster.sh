@@ -29,10 +29,13 @@ fi
 WORK=$(mktemp -d /tmp/decohere-slurm.XXXXXX)
 CONF=$WORK/etc
 mkdir -p "$CONF" "$WORK/spool/ctld" "$WORK/spool/d" "$WORK/log" "$WORK/munge"
-PIDS=()
 cleanup() {
-    for pid in "${PIDS[@]}"; do kill "$pid" 2> /dev/null || true; done
-    wait 2> /dev/null || true
+    # The daemons detach; stop them through the controller, then by their pid files (read now: written late).
+    [[ -n "${SLURM_CONF:-}" ]] && timeout 10 scontrol shutdown > /dev/null 2>&1 || true
+    for pidfile in "$WORK/slurmctld.pid" "$WORK/slurmd.pid" "$WORK/munge/munged.pid"; do
+        [[ -f $pidfile ]] && kill "$(cat "$pidfile")" 2> /dev/null || true
+    done
+    pkill -f "slurmctld -f $WORK/" 2> /dev/null || true
 }
 trap cleanup EXIT
 
@@ -43,7 +46,6 @@ chmod 600 "$WORK/munge/munge.key"
 munged --force --key-file="$WORK/munge/munge.key" --socket="$SOCKET" \
     --pid-file="$WORK/munge/munged.pid" --log-file="$WORK/log/munged.log" --seed-file="$WORK/munge/seed" ||
     skip "munged did not start: $(tail -n 3 "$WORK/log/munged.log" 2>&1)"
-PIDS+=("$(cat "$WORK/munge/munged.pid")")
 
 CPUS=$(nproc)
 PORT_CTLD=$((20000 + RANDOM % 10000))
@@ -84,12 +86,11 @@ DLL=$ROOT/src/Decohere.Cli/bin/Release/net10.0/decohere.dll
 [[ -f "$DLL" ]] || fail "no $DLL after the build"
 
 slurmctld -f "$SLURM_CONF" || skip "slurmctld did not start: $(tail -n 3 "$WORK/log/slurmctld.log" 2>&1)"
-slurmd -f "$SLURM_CONF" || skip "slurmd did not start: $(tail -n 3 "$WORK/log/slurmd.log" 2>&1)"
+slurmd -N localhost -f "$SLURM_CONF" || skip "slurmd did not start: $(tail -n 3 "$WORK/log/slurmd.log" 2>&1)"
 for _ in $(seq 60); do
     [[ -f $WORK/slurmctld.pid && -f $WORK/slurmd.pid ]] && sinfo -h -o %T 2> /dev/null | grep -qE '^(idle|mixed|allocated)' && break
     sleep 1
 done
-for pidfile in "$WORK/slurmctld.pid" "$WORK/slurmd.pid"; do [[ -f $pidfile ]] && PIDS+=("$(cat "$pidfile")"); done
 sinfo -h -o %T 2> /dev/null | grep -qE '^(idle|mixed|allocated)' ||
     skip "the node did not come up: $(sinfo 2>&1 | tail -1); $(tail -n 3 "$WORK/log/slurmd.log" "$WORK/log/slurmctld.log" 2>&1)"
 echo "cluster up: $(sinfo -h -o '%P %D %T %c')"
