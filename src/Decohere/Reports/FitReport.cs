@@ -80,6 +80,17 @@ public sealed class FitReport : IReport<FitResult>
         };
         root["likelihood"] = fit.Likelihood;
         root["confidence"] = fit.Confidence;
+        // SI units, as the parameters: a Gaussian prior by mean and sd, a bounded one by low and high.
+        root["priors"] = new JsonArray([.. fit.Priors.Select(q => (JsonNode)(q.IsGaussian
+            ? new JsonObject { ["path"] = q.Path, ["kind"] = "gaussian", ["mean"] = SummaryJson.Number(q.Mean!.Value), ["sd"] = SummaryJson.Number(q.Sd!.Value) }
+            : new JsonObject { ["path"] = q.Path, ["kind"] = "bounded", ["low"] = SummaryJson.Number(q.Low!.Value), ["high"] = SummaryJson.Number(q.High!.Value) }))]);
+        root["calibration"] = fit.Calibration is { } c
+            ? new JsonObject
+            {
+                ["file"] = c.Source, ["gain"] = SummaryJson.Number(c.Gain), ["gain_sd"] = SummaryJson.Number(c.GainSd),
+                ["added_noise"] = SummaryJson.Number(c.AddedNoise), ["added_noise_sd"] = SummaryJson.Number(c.AddedNoiseSd),
+            }
+            : null;
         root["parameters"] = new JsonObject(fit.Parameters.Select((e, k) =>
             KeyValuePair.Create<string, JsonNode?>(e.Name, EstimateJson(e, Quantity.SiUnit(fit.Paths[k].Dimension) is { Length: > 0 } u ? u : "quanta"))));
         root["derived"] = new JsonObject(fit.Derived.Select(e =>

@@ -46,9 +46,15 @@ public class FitCommandTests
             await File.WriteAllTextAsync(yaml, truth.SourceText.Replace("occupancy: 50", "occupancy: 30"));
             string outDir = Path.Combine(dir, "out");
             int code = await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csvPath, "--column", "delay_s=t_ms", "--delay-unit", "ms",
-                "--free", "modes.drum.bath.occupancy,modes.drum.linewidth", "--out", outDir, "--quiet"], Console);
+                "--free", "modes.drum.bath.occupancy,modes.drum.linewidth", "--prior", "modes.drum.linewidth=1 Hz..100 Hz", "--out", outDir, "--quiet"], Console);
             Assert.Equal(CliApp.Ok, code);
             var json = JsonNode.Parse(await File.ReadAllTextAsync(Path.Combine(outDir, "fit.json")))!;
+            // The prior the likelihood included is recorded as given (SI units); no calibration was used.
+            var prior = Assert.Single(json["priors"]!.AsArray())!;
+            Assert.Equal("modes.drum.linewidth", prior["path"]!.GetValue<string>());
+            Assert.Equal("bounded", prior["kind"]!.GetValue<string>());
+            Assert.Equal((1.0, 100.0), (prior["low"]!.GetValue<double>(), prior["high"]!.GetValue<double>()));
+            Assert.Null(json["calibration"]);
             var n = json["parameters"]!["modes.drum.bath.occupancy"]!;
             double value = n["value"]!.GetValue<double>(), low = n["ci_low"]!.GetValue<double>(), high = n["ci_high"]!.GetValue<double>();
             Assert.True(low < value && value < high);

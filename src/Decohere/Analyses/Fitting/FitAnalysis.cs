@@ -119,7 +119,7 @@ public static class FitAnalysis
 
         return new FitResult(scenario, fitted, ReadoutChains.For(fitted), data, paths, estimates, derived, combinations, correlation, goodness, delayFits,
             new FitCurve([.. grid], [.. curveModel], [.. curveSd]), [.. warnings.Distinct()], DataLikelihood.Describe(data),
-            settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds);
+            settings.Confidence, ml.Evaluations, clock.Elapsed.TotalSeconds) { Priors = settings.Priors };
     }
 
     // See FitCalibration: data to quanta, the added noise as a prior, the gain's uncertainty by refits at gain ± σ.
@@ -134,6 +134,7 @@ public static class FitAnalysis
             : settings.Priors.Add(new FitPrior(noisePath, calibration.AddedNoise, calibration.AddedNoiseSd, null, null));
         var inner = settings with { Calibration = null, Priors = priors };
         var result = Solve(scenario, inner, FitCalibration.ToQuanta(data, calibration.Gain), cancel);
+        result = result with { Calibration = calibration };
         if (calibration.GainSd == 0) return result;
         // Refits from the optimum, without profiles: only the shift of each estimate is needed.
         var quick = inner with { Profiles = false, Starts = 1, Free = [.. result.Paths.Select(p => p.Text)] };

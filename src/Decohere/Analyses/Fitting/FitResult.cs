@@ -78,6 +78,12 @@ public sealed record FitResult(
     int Evaluations,
     double ElapsedSeconds) : IAnalysisResult
 {
+    /// <summary>The priors the likelihood included (those given, and a calibration's added noise).</summary>
+    public ImmutableArray<FitPrior> Priors { get; init; } = [];
+
+    /// <summary>The noise calibration the data were converted with, if any.</summary>
+    public FitCalibration? Calibration { get; init; }
+
     /// <inheritdoc/>
     public Provenance Provenance { get; } = Provenance.For(Scenario);
 

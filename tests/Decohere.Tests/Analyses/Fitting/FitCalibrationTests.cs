@@ -63,6 +63,9 @@ public class FitCalibrationTests
         double expected = Math.Sqrt(exact.StandardError * exact.StandardError + shift * shift);
         Assert.Equal(expected, uncertain.Parameters[0].StandardError, 0.25 * expected);
         Assert.EndsWith("+gain", uncertain.Parameters[0].Method);
+        // The result records the calibration and the added-noise prior it brought, for fit.json.
+        Assert.Equal(0.05 * Gain, uncertain.Calibration!.GainSd, 12);
+        Assert.Equal("readout.added_noise", Assert.Single(uncertain.Priors).Path);
     }
 
     [Fact]
