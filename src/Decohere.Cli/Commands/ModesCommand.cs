@@ -87,7 +87,7 @@ public static class ModesCommand
         var l = s.Lattice!;
         int next = l.Bonds.Count(b => b.Kind == BondKind.NextNearest);
         int boundary = l.Sites.Count(x => x.IsBoundary);
-        o.MarkupLineInterpolated($"lattice: {l.Shape}: {l.Count} sites ({boundary} on the boundary), {l.Bonds.Length - next} nearest and {next} next-nearest bonds, {s.Modes.Length} modes ({l.Count} cavities cavity_j, {l.Count} drums drum_j)");
+        o.MarkupLineInterpolated($"lattice: {l.Shape}; {boundary} of {l.Count} sites on the boundary; {l.Bonds.Length - next} nearest and {next} next-nearest bonds, {s.Modes.Length} modes ({l.Count} cavities cavity_j, {l.Count} drums drum_j)");
         foreach (var (stage, tone) in l.Drives.OrderBy(d => s.StageIndex(d.Key)))
             o.MarkupLineInterpolated($"stage {stage}: {tone.Sideband.ToString().ToLowerInvariant()} tone on collective mode {tone.ModeIndex}, {tone.Photons:G4} photons in the mode");
     }
