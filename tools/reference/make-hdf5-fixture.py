@@ -3,7 +3,7 @@
 
 Run with Debian's python3-h5py (apt-get install python3-h5py): /usr/bin/python3 tools/reference/make-hdf5-fixture.py
 The values are small and exact so the test states them literally; the layout is what a lab's acquisition code writes:
-one group per measurement, one dataset per column, a units attribute, a gzip-compressed chunked column, a 2-D raw
+one group per measurement, one dataset per column (fixed- and variable-length strings among them), a units attribute, a gzip-compressed chunked column, a 2-D raw
 trace and a scalar beside the columns, and a second group in volts.
 """
 import os
@@ -21,6 +21,7 @@ with h5py.File(path, "w") as f:
                        chunks=(3,), compression="gzip", compression_opts=4)
     run.create_dataset("q", data=np.array([1, -2, 3, -4, 5, -6], dtype="i2"))
     run.create_dataset("mode", data=np.array([b"drum"] * 6))
+    run.create_dataset("label", data=np.array(["a", "b", "c", "d", "e", "f"], dtype=h5py.string_dtype()))
     run.create_dataset("raw", data=np.zeros((2, 3)))
     volts = f.create_group("volts")
     v = volts.create_dataset("i", data=np.array([1e-3, 2e-3], dtype="f8"))

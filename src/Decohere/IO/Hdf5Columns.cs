@@ -74,6 +74,8 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
             var columns = new Dictionary<string, IH5Dataset>(StringComparer.Ordinal);
             var skipped = new List<string>();
             var lengths = new Dictionary<string, ulong>(StringComparer.Ordinal);
+            // Variable-length data are text only if they read as strings: the probe's result is kept, not read twice.
+            var variableText = new Dictionary<string, string?[]>(StringComparer.Ordinal);
             foreach (var child in where.Children())
             {
                 cancel.ThrowIfCancellationRequested();
@@ -84,7 +86,7 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 if (dims.Length != 1)
                     skipped.Add($"{name} ({(dims.Length == 0 ? "a scalar" : $"shape {string.Join("×", dims)}")}: a column is one-dimensional)");
                 else if (!(type.Class is H5DataTypeClass.String or H5DataTypeClass.FloatingPoint or H5DataTypeClass.FixedPoint ||
-                           (type.Class is H5DataTypeClass.VariableLength && IsText(dataset))))
+                           (type.Class is H5DataTypeClass.VariableLength && TryText(dataset) is { } text && variableText.TryAdd(name, text))))
                     skipped.Add($"{name} ({type.Class.ToString().ToLowerInvariant()} data: a column holds numbers or text)");
                 else if (dims[0] > int.MaxValue)
                     throw new InputException($"{source}, dataset {name}: {dims[0]} rows; at most {int.MaxValue}");
@@ -120,7 +122,7 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 }
                 else
                 {
-                    texts[name] = dataset.Read<string[]>();
+                    texts[name] = variableText.GetValueOrDefault(name) ?? dataset.Read<string[]>();
                 }
             }
             return new Hdf5Columns(source, names, numbers, texts, rows, skipped);
@@ -132,16 +134,15 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
         }
     }
 
-    private static bool IsText(IH5Dataset dataset)
+    private static string?[]? TryText(IH5Dataset dataset)
     {
         try
         {
-            dataset.Read<string[]>();
-            return true;
+            return dataset.Read<string[]>();
         }
         catch (Exception)
         {
-            return false;
+            return null;
         }
     }
 

@@ -19,7 +19,7 @@ public sealed class Hdf5InputTests
         Assert.True(Hdf5Columns.IsHdf5(Fixture));
         var table = Hdf5Columns.Read(Fixture, "/run7");
         Assert.Equal(6, table.Rows);
-        Assert.Equal(["delay", "i", "mode", "q"], table.Names.Order(StringComparer.Ordinal));
+        Assert.Equal(["delay", "i", "label", "mode", "q"], table.Names.Order(StringComparer.Ordinal));
         // units = "ms" on the dataset: 1.5 ms is 0.0015 s.
         Assert.Equal([0, 0, 0, 1.5e-3, 1.5e-3, 1.5e-3], table.Numbers["delay"]);
         // float32, gzip-compressed in chunks of 3: exact binary fractions survive the single-precision round trip.
@@ -27,6 +27,8 @@ public sealed class Hdf5InputTests
         // int16.
         Assert.Equal([1.0, -2, 3, -4, 5, -6], table.Numbers["q"]);
         Assert.All(table.Texts["mode"], m => Assert.Equal("drum", m));
+        // Variable-length UTF-8 strings (h5py's string_dtype).
+        Assert.Equal("a b c d e f", string.Join(" ", table.Texts["label"]));
         Assert.Contains(table.Skipped, s => s.StartsWith("raw (shape 2×3", StringComparison.Ordinal));
     }
 
