@@ -70,10 +70,8 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                     throw new InputException($"{source}: no group '{group}' in the file; groups at the root: {Describe(file.Children().OfType<IH5Group>().Select(g => g.Name))}");
                 where = file.Group(group);
             }
-            var names = new List<string>();
-            var columns = new Dictionary<string, IH5Dataset>(StringComparer.Ordinal);
+            var columns = new List<(string Name, IH5Dataset Dataset, ulong Rows)>();
             var skipped = new List<string>();
-            var lengths = new Dictionary<string, ulong>(StringComparer.Ordinal);
             // Variable-length data are text only if they read as strings: the probe's result is kept, not read twice.
             var variableText = new Dictionary<string, string?[]>(StringComparer.Ordinal);
             foreach (var child in where.Children())
@@ -91,27 +89,23 @@ public sealed record Hdf5Columns(string Source, IReadOnlyList<string> Names, IRe
                 else if (dims[0] > int.MaxValue)
                     throw new InputException($"{source}, dataset {name}: {dims[0]} rows; at most {int.MaxValue}");
                 else
-                {
-                    names.Add(name);
-                    columns[name] = dataset;
-                    lengths[name] = dims[0];
-                }
+                    columns.Add((name, dataset, dims[0]));
             }
-            if (names.Count == 0)
+            if (columns.Count == 0)
                 throw new InputException($"{source}: no one-dimensional datasets to read as columns" +
                     (skipped.Count > 0 ? $" (skipped: {string.Join("; ", skipped)})" : "") +
                     $"; groups here: {Describe(where.Children().OfType<IH5Group>().Select(g => g.Name))} (choose one as FILE{GroupSeparator}/GROUP)");
-            if (lengths.Values.Distinct().Count() > 1)
-                throw new InputException($"{source}: the columns differ in length ({string.Join(", ", lengths.Select(p => $"{p.Key}: {p.Value}"))}); " +
+            if (columns.Select(c => c.Rows).Distinct().Count() > 1)
+                throw new InputException($"{source}: the columns differ in length ({string.Join(", ", columns.Select(c => $"{c.Name}: {c.Rows}"))}); " +
                     "keep one table per group");
-            int rows = (int)lengths.Values.First();
+            int rows = (int)columns[0].Rows;
+            string[] names = [.. columns.Select(c => c.Name)];
             var chosen = select?.Invoke(names, rows) ?? names;
             var numbers = new Dictionary<string, double[]>(StringComparer.Ordinal);
             var texts = new Dictionary<string, string?[]>(StringComparer.Ordinal);
-            foreach (string name in names.Where(chosen.Contains))
+            foreach (var (name, dataset, _) in columns.Where(c => chosen.Contains(c.Name)))
             {
                 cancel.ThrowIfCancellationRequested();
-                var dataset = columns[name];
                 if (dataset.Type.Class is H5DataTypeClass.FloatingPoint or H5DataTypeClass.FixedPoint)
                 {
                     var values = ReadNumbers(dataset);
