@@ -62,6 +62,18 @@ public static class Physics
     /// <summary>Thermal decoherence rate Γ_th = γ·n_th (s⁻¹) of a mode of energy decay rate γ in a bath of occupancy n_th.</summary>
     public static double ThermalDecoherenceRate(double decayRate, double bathOccupancy) => decayRate * bathOccupancy;
 
+    /// <summary>
+    /// Optomechanical cooperativity C = 4G²/(κγ) of a tone of coupling G on a cavity of linewidth κ and a mechanical mode
+    /// of linewidth γ (Aspelmeyer, Kippenberg, Marquardt, Rev. Mod. Phys. 86, 1391 (2014)); all three as ordinary
+    /// frequencies (Hz), since the factors 2π cancel.
+    /// </summary>
+    public static double Cooperativity(double couplingHz, double cavityLinewidthHz, double mechanicalLinewidthHz) =>
+        4 * couplingHz * couplingHz / (cavityLinewidthHz * mechanicalLinewidthHz);
+
+    /// <summary>Inverse of <see cref="Cooperativity"/>: the coupling G/2π (Hz) that reaches cooperativity C.</summary>
+    public static double CouplingForCooperativity(double cooperativity, double cavityLinewidthHz, double mechanicalLinewidthHz) =>
+        Math.Sqrt(cooperativity * cavityLinewidthHz * mechanicalLinewidthHz) / 2;
+
     private static double Expm1(double x) => Math.Abs(x) < 1e-5 ? x + x * x / 2 + x * x * x / 6 : Math.Exp(x) - 1;
 
     private static double Log1P(double x) => Math.Abs(x) < 1e-5 ? x - x * x / 2 + x * x * x / 3 : Math.Log(1 + x);

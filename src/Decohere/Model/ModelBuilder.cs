@@ -27,11 +27,8 @@ public static class ModelBuilder
 
     /// <summary>Summed cooperativity C = Σ 4G²/(κγ) of the stage's tones on a cavity (κ the cavity's, γ each tone's mechanical mode's).</summary>
     public static double Cooperativity(Scenario scenario, Mode cavity, Stage stage) =>
-        stage.Tones.Where(t => t.Cavity == cavity.Name).Sum(t =>
-        {
-            double g = Physics.Angular(t.CouplingHz);
-            return 4 * g * g / (cavity.DecayRate * scenario.ModeNamed(t.Mechanical).DecayRate);
-        });
+        stage.Tones.Where(t => t.Cavity == cavity.Name)
+            .Sum(t => Physics.Cooperativity(t.CouplingHz, cavity.LinewidthHz, scenario.ModeNamed(t.Mechanical).LinewidthHz));
 
     /// <summary>
     /// The relaxing parts of a stage's diffusion: D(t) = D + Σ_k e^{−(t − t_k)/τ_k} D_k for every transient bath active in the

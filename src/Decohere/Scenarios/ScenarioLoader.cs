@@ -662,9 +662,8 @@ public static class ScenarioLoader
             {
                 form = CouplingForm.Cooperativity;
                 double? c = r.Number(YamlReader.Get(m, "cooperativity"), path + ".cooperativity", Dimension.Dimensionless, 0);
-                // C = 4G²/(κγ) with all three as angular rates; the 2π factors cancel in Hz.
                 if (c is not null && cavity is not null && mech is not null)
-                    g = Math.Sqrt(c.Value * cavity.LinewidthHz * mech.LinewidthHz) / 2;
+                    g = Physics.CouplingForCooperativity(c.Value, cavity.LinewidthHz, mech.LinewidthHz);
             }
             if (cavity is null || mech is null || sideband is null || g is null) return null;
             return new Tone(cavity.Name, mech.Name, sideband.Value, g.Value, form);

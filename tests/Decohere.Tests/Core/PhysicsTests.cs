@@ -84,4 +84,15 @@ public class PhysicsTests
         double gamma = 2 * Math.PI * 0.15, nth = Physics.Occupancy(4.1e6, 0.015);
         Assert.Equal(71.38, Physics.ThermalDecoherenceRate(gamma, nth), 0.01);
     }
+
+    [Fact]
+    public void CooperativityIsFourGSquaredOverKappaGammaInAngularRates()
+    {
+        // C = 4G²/(κγ) with G, κ, γ as angular rates (Aspelmeyer, Kippenberg, Marquardt, RMP 86, 1391 (2014), eq. for C):
+        // G/2π = 20 kHz, κ/2π = 1 MHz, γ/2π = 10 Hz gives 4·(2π·2e4)²/((2π·1e6)(2π·10)) = 160.
+        double g = 2 * Math.PI * 2e4, kappa = 2 * Math.PI * 1e6, gamma = 2 * Math.PI * 10;
+        Assert.Equal(4 * g * g / (kappa * gamma), Physics.Cooperativity(2e4, 1e6, 10), 1e-9);
+        Assert.Equal(160, Physics.Cooperativity(2e4, 1e6, 10), 1e-9);
+        Assert.Equal(2e4, Physics.CouplingForCooperativity(160, 1e6, 10), 1e-8);
+    }
 }

@@ -59,7 +59,7 @@ public sealed record ScenarioReport(
                 var cavity = s.ModeNamed(tone.Cavity);
                 var mech = s.ModeNamed(tone.Mechanical);
                 double g = Physics.Angular(tone.CouplingHz);
-                double coop = 4 * g * g / (cavity.DecayRate * mech.DecayRate);
+                double coop = Physics.Cooperativity(tone.CouplingHz, cavity.LinewidthHz, mech.LinewidthHz);
                 double resolution = cavity.LinewidthHz / mech.FrequencyHz;
                 tones.Add(new ToneReport(stage.Name, tone, g, coop, resolution));
                 if (s.Model == ModelKind.Effective && g > 0.1 * cavity.DecayRate)
