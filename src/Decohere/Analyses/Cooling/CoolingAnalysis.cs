@@ -211,8 +211,8 @@ public static class CoolingAnalysis
         bool errors = data.All(p => p.Error is > 0);
         if (!errors && data.Any(p => p.Error is not null)) warnings.Add("data: some rows have no occupancy_err; all errors ignored (least squares)");
         // A trial law that heats the cavity past double range is an impossible point: +∞ to the optimiser.
-        double Model(double[] b, double c) => new HeatingLaw(b[0], b[1]).ExcessAt(c) is var excess && double.IsFinite(excess) && excess < 1e15
-            ? Evaluate(scenario, stage, tone, c, new HeatingLaw(b[0], b[1]), settings, shares: false).Occupancy
+        double Model(double[] b, double c) => new HeatingLaw(b[0], b[1]) is var trial && trial.ExcessAt(c) is var excess && double.IsFinite(excess) && excess < 1e15
+            ? Evaluate(scenario, stage, tone, c, trial, settings, shares: false).Occupancy
             : double.PositiveInfinity;
         var start = law is { Table.IsDefaultOrEmpty: true, Coefficient: > 0 } ? new[] { law.Coefficient, law.Exponent } : StartFromData(scenario, stage, tone, settings, data);
         FitParameter[] parameters = [new("coefficient", start[0], ParameterDomain.Positive), new("exponent", start[1], ParameterDomain.Positive)];
