@@ -20,7 +20,7 @@ public sealed class CoolingReport : IReport<CoolingResult>
 
     /// <inheritdoc/>
     public Task<IReadOnlyList<string>> WriteAsync(CoolingResult result, string directory, CancellationToken cancel = default) =>
-        SpectrumReport.WriteFiles(directory, "cooling", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
+        LabReportFiles.Write(directory, "cooling", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
 
     private static Task WriteTable(CoolingResult result, string path, CancellationToken cancel)
     {

@@ -15,7 +15,7 @@ public sealed class RingdownReport : IReport<RingdownResult>
 
     /// <inheritdoc/>
     public Task<IReadOnlyList<string>> WriteAsync(RingdownResult result, string directory, CancellationToken cancel = default) =>
-        SpectrumReport.WriteFiles(directory, "ringdown", path =>
+        LabReportFiles.Write(directory, "ringdown", path =>
         {
             var keys = new Dictionary<string, string>(result.Provenance.ToKeyValues())
             {

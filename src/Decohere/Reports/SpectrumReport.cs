@@ -4,7 +4,6 @@ using System.Text.Json.Nodes;
 using Decohere.Analyses.Spectra;
 using Decohere.Core;
 using Decohere.IO;
-using Decohere.Reports.Plotting;
 using Decohere.Scenarios;
 
 namespace Decohere.Reports;
@@ -32,7 +31,7 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
 
     /// <inheritdoc/>
     public Task<IReadOnlyList<string>> WriteAsync(SpectrumResult result, string directory, CancellationToken cancel = default) =>
-        WriteFiles(directory, "spectrum", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
+        LabReportFiles.Write(directory, "spectrum", path => WriteTable(result, path, cancel), () => Json(result), () => Plot(result), cancel);
 
     private static async Task WriteTable(SpectrumResult result, string path, CancellationToken cancel)
     {
@@ -65,22 +64,6 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
             ["decohere.spectrum.efficiency"] = result.Settings.Efficiency.ToString("R", CultureInfo.InvariantCulture),
         };
         await ParquetTable.WriteAsync(path, Columns, [f, mode, field, offset, sxx, spp, normal, anti], keys, cancel: cancel);
-    }
-
-    /// <summary>
-    /// Writes the files of a lab analysis, STEM.parquet (by <paramref name="table"/>), STEM.json and STEM.png/.svg, each
-    /// atomically and in that order (the summary after the table it describes); returns the paths json, table, png, svg.
-    /// </summary>
-    internal static async Task<IReadOnlyList<string>> WriteFiles(string directory, string stem, Func<string, Task> table, Func<JsonObject> json,
-        Func<Plot> plot, CancellationToken cancel)
-    {
-        Directory.CreateDirectory(directory);
-        string parquet = Path.Combine(directory, stem + ".parquet"), summary = Path.Combine(directory, stem + ".json");
-        await table(parquet);
-        cancel.ThrowIfCancellationRequested();
-        SummaryJson.Write(json(), summary);
-        cancel.ThrowIfCancellationRequested();
-        return [summary, parquet, .. Figure.Save(plot(), Path.Combine(directory, stem), 1200, 700)];
     }
 
     /// <summary>The content of spectrum.json.</summary>

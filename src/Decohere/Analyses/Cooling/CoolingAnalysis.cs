@@ -154,21 +154,24 @@ public static class CoolingAnalysis
         double nth = scenario.BathOf(mech, stage).Occupancy;
         // The steady covariance is affine in the bath occupancies (D is), so each source's share is its own solve minus the
         // solve with both baths empty; what remains there is the zero-point (quantum) part and the other modes' baths.
-        double Solve(double mechanical, double cav)
+        LinearModel Model(double mechanical, double cav) => ModelBuilder.Build(scenario, driven with
         {
-            var s = driven with
-            {
-                BathOverrides = driven.BathOverrides.SetItem(mech.Name, new Bath(mechanical)).SetItem(cavity.Name, new Bath(cav)),
-            };
-            var model = ModelBuilder.Build(scenario, s);
-            var stability = Stability.Of(model.Drift);
-            if (!stability.IsStable)
-                throw new UnstableDynamicsException(stability.GrowthRate, $"stage '{stage.Name}' at C = {cooperativity:G4} has no steady state (it grows at {stability.GrowthRate:G4} s⁻¹)");
+            BathOverrides = driven.BathOverrides.SetItem(mech.Name, new Bath(mechanical)).SetItem(cavity.Name, new Bath(cav)),
+        });
+        double Occupancy(LinearModel model)
+        {
             var v = Lyapunov.Solve(model.Drift, model.Diffusion).Covariance;
             int j = model.IndexOf(mech.Name);
             return Physics.ModeOccupancy(v[2 * j, 2 * j], v[2 * j + 1, 2 * j + 1], 0, 0);
         }
-        double total = Solve(nth, nc0 + heating + phase);
+        double Solve(double mechanical, double cav) => Occupancy(Model(mechanical, cav));
+        // The bath occupancies enter D alone (the drift of √(n+1)·J and √n·J† does not depend on n), so one stability check
+        // covers every solve below; Lyapunov.Solve still refuses an unstable drift on its own.
+        var full = Model(nth, nc0 + heating + phase);
+        var stability = Stability.Of(full.Drift);
+        if (!stability.IsStable)
+            throw new UnstableDynamicsException(stability.GrowthRate, $"stage '{stage.Name}' at C = {cooperativity:G4} has no steady state (it grows at {stability.GrowthRate:G4} s⁻¹)");
+        double total = Occupancy(full);
         if (!shares) return new CoolingRow(cooperativity, couplingHz, nc0 + heating + phase, heating, phase, total, double.NaN, double.NaN, double.NaN, double.NaN, double.NaN);
         double quantum = Solve(0, 0);
         double thermal = Solve(nth, 0) - quantum;
@@ -208,8 +211,8 @@ public static class CoolingAnalysis
         bool errors = data.All(p => p.Error is > 0);
         if (!errors && data.Any(p => p.Error is not null)) warnings.Add("data: some rows have no occupancy_err; all errors ignored (least squares)");
         // A trial law that heats the cavity past double range is an impossible point: +∞ to the optimiser.
-        double Model(double[] b, double c) => new HeatingLaw(b[0], b[1]).ExcessAt(c) is var excess && double.IsFinite(excess) && excess < 1e15
-            ? Evaluate(scenario, stage, tone, c, new HeatingLaw(b[0], b[1]), settings, shares: false).Occupancy
+        double Model(double[] b, double c) => new HeatingLaw(b[0], b[1]) is var trial && trial.ExcessAt(c) is var excess && double.IsFinite(excess) && excess < 1e15
+            ? Evaluate(scenario, stage, tone, c, trial, settings, shares: false).Occupancy
             : double.PositiveInfinity;
         var start = law is { Table.IsDefaultOrEmpty: true, Coefficient: > 0 } ? new[] { law.Coefficient, law.Exponent } : StartFromData(scenario, stage, tone, settings, data);
         FitParameter[] parameters = [new("coefficient", start[0], ParameterDomain.Positive), new("exponent", start[1], ParameterDomain.Positive)];

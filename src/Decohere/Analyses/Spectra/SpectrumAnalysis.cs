@@ -120,7 +120,9 @@ public static class SpectrumAnalysis
         var spp = new double[n, count];
         var normal = new double[n, count];
         var anti = new double[n, count];
-        var cavities = scenario.Model == ModelKind.Full ? modes.Select((m, j) => (m, j)).Where(p => p.m.Kind == ModeKind.Cavity).ToArray() : [];
+        var cavities = scenario.Model == ModelKind.Full
+            ? modes.Select((m, j) => (m, j)).Where(p => p.m.Kind == ModeKind.Cavity).Select(p => (p.m, p.j, nc: ModelBuilder.BathOccupancy(scenario, p.m, stage))).ToArray()
+            : [];
         var outputs = cavities.Select(_ => new double[4, count]).ToArray();
         // The grid is symmetric about zero: the ordered spectrum at −ω is the one at the mirrored index.
         var at = new LinearResponse.Response[count];
@@ -140,8 +142,7 @@ public static class SpectrumAnalysis
             }
             for (int c = 0; c < cavities.Length; c++)
             {
-                var (mode, j) = cavities[c];
-                double nc = ModelBuilder.BathOccupancy(scenario, mode, stage);
+                var (mode, j, nc) = cavities[c];
                 FillOutput(outputs[c], k, LinearResponse.Output(r.Of(j), mode.DecayRate, nc, settings.Efficiency),
                     LinearResponse.Output(mirror.Of(j), mode.DecayRate, nc, settings.Efficiency));
             }
