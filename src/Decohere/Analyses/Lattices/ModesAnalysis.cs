@@ -86,7 +86,7 @@ public static class ModesAnalysis
         var nearest = lattice.Bonds.Where(b => b.Kind == BondKind.Nearest).ToArray();
         var chain = lattice.Kind == LatticeKind.Chain && nearest.Any(b => b.Direction == 1) && nearest.All(b => b.Direction <= 1)
             ? Topology(scenario, lattice) : null;
-        var provenance = new Provenance(scenario.Name, scenario.SourceHash, scenario.SourceText, scenario.Seed, Provenance.Version);
+        var provenance = Provenance.For(scenario);
         return new ModesResult(scenario, lattice, result, chain, share, provenance, ResultStatuses.From(warnings), [.. warnings], WorkStatistics.Since(start));
     }
 

@@ -146,7 +146,7 @@ public static class ReconstructionAnalysis
         double typicalError = data.Modes.Select(m => m.ErrorHz).DefaultIfEmpty(0).Average();
         if (minGap < 3 * typicalError)
             warnings.Add($"two fitted modes are {minGap:G3} Hz apart, within 3 frequency errors: their participations mix and the fit may have swapped them");
-        var provenance = new Provenance(scenario.Name, scenario.SourceHash, scenario.SourceText, scenario.Seed, Provenance.Version);
+        var provenance = Provenance.For(scenario);
         return new ReconstructionResult(scenario, fitted, chi, dof, pValue, iterations, [.. undetermined], provenance,
             ResultStatuses.From(warnings), [.. warnings], WorkStatistics.Since(start, iterations));
     }
