@@ -70,9 +70,9 @@ public static class ReconstructionAnalysis
         var lattice = ModesAnalysis.Require(scenario);
         int n = lattice.Count;
         Check(data, settings, n);
-        var terms = Terms(scenario, lattice, settings);
-        // What is not fitted (on-site offsets with OnSite off, bonds outside the fitted graph) stays at the scenario's values.
         var (fixedPart, _) = lattice.Hamiltonian(scenario);
+        var terms = Terms(fixedPart, lattice, settings);
+        // What is not fitted (on-site offsets with OnSite off, bonds outside the fitted graph) stays at the scenario's values.
         foreach (var x in terms) fixedPart[x.A, x.B] = fixedPart[x.B, x.A] = 0;
         int p = terms.Count;
         double[] t = terms.Select(x => x.Nominal).ToArray();
@@ -153,9 +153,9 @@ public static class ReconstructionAnalysis
 
     private sealed record Term(string Name, TermKind Kind, int A, int B, double Nominal);
 
-    private static List<Term> Terms(Scenario scenario, Lattice lattice, ReconstructionSettings settings)
+    // The terms of the fit on the lattice's graph, each starting from its value in the scenario's Hamiltonian h.
+    private static List<Term> Terms(double[,] h, Lattice lattice, ReconstructionSettings settings)
     {
-        var (h, _) = lattice.Hamiltonian(scenario);
         int n = lattice.Count;
         var terms = new List<Term>();
         if (settings.OnSite)
