@@ -24,8 +24,8 @@ public sealed class ReconstructReport : IReport<ReconstructionResult>
         Array[] data =
         [
             t.Select(x => x.Name).ToArray(), t.Select(x => Kind(x.Kind)).ToArray(), t.Select(x => x.SiteA).ToArray(), t.Select(x => x.SiteB).ToArray(),
-            t.Select(x => x.ValueHz).ToArray(), t.Select(x => Finite(x.StdErrHz)).ToArray(), t.Select(x => Finite(x.LowHz)).ToArray(),
-            t.Select(x => Finite(x.HighHz)).ToArray(), t.Select(x => x.NominalHz).ToArray(), t.Select(x => x.Identified).ToArray(),
+            t.Select(x => x.ValueHz).ToArray(), t.Select(x => x.StdErrHz).ToArray(), t.Select(x => x.LowHz).ToArray(),
+            t.Select(x => x.HighHz).ToArray(), t.Select(x => x.NominalHz).ToArray(), t.Select(x => x.Identified).ToArray(),
         ];
         await ParquetTable.WriteAsync(table, Columns, data, result.Provenance.ToKeyValues(), cancel: cancel);
         cancel.ThrowIfCancellationRequested();
@@ -58,6 +58,4 @@ public sealed class ReconstructReport : IReport<ReconstructionResult>
 
     /// <summary>Term kind as written in files: onsite, nearest, next_nearest.</summary>
     public static string Kind(TermKind k) => k switch { TermKind.OnSite => "onsite", TermKind.Nearest => "nearest", _ => "next_nearest" };
-
-    private static double? Finite(double v) => double.IsFinite(v) ? v : null;
 }

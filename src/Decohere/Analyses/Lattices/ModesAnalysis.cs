@@ -61,13 +61,16 @@ public static class ModesAnalysis
 {
     /// <summary>Solves the network's eigenproblem.</summary>
     /// <exception cref="InputException">The scenario has no lattice.</exception>
-    public static ModesResult Solve(Scenario scenario, ModesSettings settings)
+    public static ModesResult Solve(Scenario scenario, ModesSettings settings) => Solve(scenario, settings, null);
+
+    // Callers that need the amplitudes as well solve the eigenproblem once and pass its modes in.
+    internal static ModesResult Solve(Scenario scenario, ModesSettings settings, ImmutableArray<CollectiveMode>? solved)
     {
         long start = Stopwatch.GetTimestamp();
         var lattice = Require(scenario);
         if (!(settings.EdgeEnrichment > 1) || !double.IsFinite(settings.EdgeEnrichment))
             throw new InputException($"edge enrichment must be a finite number above 1, got {settings.EdgeEnrichment}");
-        var modes = LatticeModes.Solve(scenario, lattice);
+        var modes = solved ?? LatticeModes.Solve(scenario, lattice);
         int n = lattice.Count;
         int boundary = lattice.Sites.Count(s => s.IsBoundary);
         double share = (double)boundary / n;
@@ -86,7 +89,7 @@ public static class ModesAnalysis
         var nearest = lattice.Bonds.Where(b => b.Kind == BondKind.Nearest).ToArray();
         var chain = lattice.Kind == LatticeKind.Chain && nearest.Any(b => b.Direction == 1) && nearest.All(b => b.Direction <= 1)
             ? Topology(scenario, lattice) : null;
-        var provenance = new Provenance(scenario.Name, scenario.SourceHash, scenario.SourceText, scenario.Seed, Provenance.Version);
+        var provenance = Provenance.For(scenario);
         return new ModesResult(scenario, lattice, result, chain, share, provenance, ResultStatuses.From(warnings), [.. warnings], WorkStatistics.Since(start));
     }
 

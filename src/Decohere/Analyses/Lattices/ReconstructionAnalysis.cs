@@ -70,9 +70,9 @@ public static class ReconstructionAnalysis
         var lattice = ModesAnalysis.Require(scenario);
         int n = lattice.Count;
         Check(data, settings, n);
-        var terms = Terms(scenario, lattice, settings);
-        // What is not fitted (on-site offsets with OnSite off, bonds outside the fitted graph) stays at the scenario's values.
         var (fixedPart, _) = lattice.Hamiltonian(scenario);
+        var terms = Terms(fixedPart, lattice, settings);
+        // What is not fitted (on-site offsets with OnSite off, bonds outside the fitted graph) stays at the scenario's values.
         foreach (var x in terms) fixedPart[x.A, x.B] = fixedPart[x.B, x.A] = 0;
         int p = terms.Count;
         double[] t = terms.Select(x => x.Nominal).ToArray();
@@ -146,16 +146,16 @@ public static class ReconstructionAnalysis
         double typicalError = data.Modes.Select(m => m.ErrorHz).DefaultIfEmpty(0).Average();
         if (minGap < 3 * typicalError)
             warnings.Add($"two fitted modes are {minGap:G3} Hz apart, within 3 frequency errors: their participations mix and the fit may have swapped them");
-        var provenance = new Provenance(scenario.Name, scenario.SourceHash, scenario.SourceText, scenario.Seed, Provenance.Version);
+        var provenance = Provenance.For(scenario);
         return new ReconstructionResult(scenario, fitted, chi, dof, pValue, iterations, [.. undetermined], provenance,
             ResultStatuses.From(warnings), [.. warnings], WorkStatistics.Since(start, iterations));
     }
 
     private sealed record Term(string Name, TermKind Kind, int A, int B, double Nominal);
 
-    private static List<Term> Terms(Scenario scenario, Lattice lattice, ReconstructionSettings settings)
+    // The terms of the fit on the lattice's graph, each starting from its value in the scenario's Hamiltonian h.
+    private static List<Term> Terms(double[,] h, Lattice lattice, ReconstructionSettings settings)
     {
-        var (h, _) = lattice.Hamiltonian(scenario);
         int n = lattice.Count;
         var terms = new List<Term>();
         if (settings.OnSite)

@@ -68,9 +68,9 @@ public static class SpectroscopyAnalysis
     {
         long start = Stopwatch.GetTimestamp();
         Check(settings);
-        var modes = ModesAnalysis.Solve(scenario, modesSettings ?? new ModesSettings());
-        var lattice = modes.Lattice;
+        var lattice = ModesAnalysis.Require(scenario);
         var collective = LatticeModes.Solve(scenario, lattice);
+        var modes = ModesAnalysis.Solve(scenario, modesSettings ?? new ModesSettings(), collective);
         int n = lattice.Count;
         long seed = settings.Seed ?? scenario.Seed;
         var rows = new SpectroscopyRow[collective.Length * n];

@@ -107,6 +107,27 @@ public class ReconstructionAnalysisTests
     }
 
     [Fact]
+    public async Task UndeterminedTermsHaveNullErrorsInTheTable()
+    {
+        // The same undetermined fit as above, written and read back by DuckDB (an independent Parquet reader): a term the
+        // data do not determine has no error or interval, so those cells are null, never NaN; the others are finite.
+        var s = ModesAnalysisTests.Chain(6, 60, 100);
+        var fit = ReconstructionAnalysis.Solve(s, Simulate(s, 10e3, 1, 3, participations: false), new ReconstructionSettings { OnSite = false });
+        string dir = TestPaths.NewTempDirectory();
+        await new Decohere.Reports.ReconstructReport().WriteAsync(fit, dir);
+        string path = Path.Combine(dir, "reconstruct.parquet").Replace("'", "''");
+        var rows = DuckDb.Query($"SELECT identified, stderr_hz, ci_low_hz, ci_high_hz, isfinite(value_hz) FROM read_parquet('{path}')");
+        Assert.Equal(fit.Terms.Length, rows.Count);
+        Assert.Contains(rows, r => !(bool)r[0]!);
+        foreach (var r in rows)
+        {
+            Assert.True((bool)r[4]!);
+            if ((bool)r[0]!) Assert.All(r[1..4], v => Assert.True(double.IsFinite((double)v!)));
+            else Assert.All(r[1..4], Assert.Null);
+        }
+    }
+
+    [Fact]
     public async Task SimulatedSpectroscopyFitsWithAChiSquareOfItsDegreesOfFreedom()
     {
         // End to end through the files a lab would have: spectroscopy.parquet (damping weights |ψ|⁴ from Lorentzian fits,
