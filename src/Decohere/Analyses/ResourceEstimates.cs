@@ -35,11 +35,7 @@ public static class ResourceEstimates
     public const double TrajectoryRowMemory = 48;
 
     /// <summary>The number of output times of the covariance grid (t = 0, every step inside a stage, every stage end), without building it.</summary>
-    public static double GridTimes(Scenario scenario, double? stepS = null)
-    {
-        double step = stepS ?? scenario.OutputStepS;
-        return 1 + scenario.Stages.Sum(s => Math.Ceiling(s.DurationS / step));
-    }
+    public static double GridTimes(Scenario scenario) => 1 + scenario.Stages.Sum(s => Math.Ceiling(s.DurationS / scenario.OutputStepS));
 
     /// <summary><c>run</c>: the covariance table (and its plot), the shots, the trajectories.</summary>
     public static ResourceEstimate Run(Scenario scenario, RunSettings settings)

@@ -82,9 +82,6 @@ public sealed record ResourceEstimate(string Command, ImmutableArray<ResourcePar
     /// <summary>Estimated bytes written.</summary>
     public double DiskBytes => Parts.Sum(p => p.DiskBytes);
 
-    /// <summary>Estimated rows over all parts.</summary>
-    public double Rows => Parts.Sum(p => p.Rows);
-
     /// <summary>Refuses an estimate beyond <paramref name="limits"/>, naming the estimate, its largest part and the setting to change.</summary>
     /// <exception cref="InputException">The memory or disk estimate exceeds its limit; the message starts with "memory limit" or "disk limit".</exception>
     public void Enforce(ResourceLimits limits)

@@ -460,28 +460,28 @@ public sealed class DataTable
                     var values = numbers[c] ??= new NumberColumn(rows);
                     switch (reader)
                     {
-                        case LogicalColumnReader<double> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<double?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<float> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<float?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<long> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<long?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<int> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<int?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<short> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<short?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<sbyte> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<sbyte?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ulong> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ulong?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<uint> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<uint?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ushort> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<ushort?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<byte> r: ConvertRequired(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<byte?> r: ConvertOptional(r, values, offset, n, v => v, name, names[c]); break;
-                        case LogicalColumnReader<decimal> r: ConvertRequired(r, values, offset, n, v => (double)v, name, names[c]); break;
-                        case LogicalColumnReader<decimal?> r: ConvertOptional(r, values, offset, n, v => (double)v, name, names[c]); break;
+                        case LogicalColumnReader<double> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<double?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<float?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<long?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<int?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<short?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<sbyte?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ulong?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<uint?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<ushort?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<byte?> r: ReadNumbers(r, values, offset, n, v => v, name, names[c]); break;
+                        case LogicalColumnReader<decimal> r: ReadNumbers(r, values, offset, n, v => (double)v, name, names[c]); break;
+                        case LogicalColumnReader<decimal?> r: ReadNumbers(r, values, offset, n, v => (double?)v, name, names[c]); break;
                         default:
                             throw new InputException($"{name}: column {names[c]} holds {Describe(reader.GetType())}; expected numbers (double, float, integer, decimal) or text");
                     }
@@ -523,8 +523,8 @@ public sealed class DataTable
         }
     }
 
-    private static void ConvertRequired<T>(LogicalColumnReader<T> reader, NumberColumn column, int offset, int count, Func<T, double> convert, string file, string name)
-        where T : struct
+    // One loop for required and OPTIONAL columns: a required column's values convert to a double? that is never null.
+    private static void ReadNumbers<T>(LogicalColumnReader<T> reader, NumberColumn column, int offset, int count, Func<T, double?> convert, string file, string name)
     {
         var buffer = new T[Math.Min(count, Batch)];
         int done = 0;
@@ -532,23 +532,9 @@ public sealed class DataTable
         {
             int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, count - done)));
             if (read <= 0) throw new InputException($"{file}: column {name} ends after {done} of {count} rows of its row group");
-            for (int k = 0; k < read; k++) Put(column, offset + done + k, convert(buffer[k]));
-            done += read;
-        }
-    }
-
-    private static void ConvertOptional<T>(LogicalColumnReader<T?> reader, NumberColumn column, int offset, int count, Func<T, double> convert, string file, string name)
-        where T : struct
-    {
-        var buffer = new T?[Math.Min(count, Batch)];
-        int done = 0;
-        while (done < count)
-        {
-            int read = reader.ReadBatch(buffer.AsSpan(0, Math.Min(buffer.Length, count - done)));
-            if (read <= 0) throw new InputException($"{file}: column {name} ends after {done} of {count} rows of its row group");
             for (int k = 0; k < read; k++)
             {
-                if (buffer[k] is { } v) Put(column, offset + done + k, convert(v));
+                if (convert(buffer[k]) is { } v) Put(column, offset + done + k, v);
                 else column.RefuseMissing(offset + done + k, "value is missing (null)");
             }
             done += read;

@@ -1,3 +1,5 @@
+using System.Text.Encodings.Web;
+using System.Text.Json;
 using System.Text.Json.Serialization;
 using Decohere.Analyses.Sweeps;
 
@@ -11,3 +13,10 @@ namespace Decohere.IO;
 [JsonSourceGenerationOptions(WriteIndented = false)]
 [JsonSerializable(typeof(SweepDescription))]
 public sealed partial class DecohereJsonContext : JsonSerializerContext;
+
+/// <summary>The options of every JSON file written for people to read (summaries, manifests, the scenario schema).</summary>
+public static class JsonFiles
+{
+    /// <summary>Indented; µ, σ, ½ and the like kept as written rather than escaped.</summary>
+    public static JsonSerializerOptions Options { get; } = new() { WriteIndented = true, Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping };
+}

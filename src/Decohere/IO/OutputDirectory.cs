@@ -132,7 +132,7 @@ public sealed class OutputDirectory
         if (root["commands"] is not JsonObject commands) root["commands"] = commands = [];
         commands.Remove(Set.Key);
         if (entry is not null) commands[Set.Key] = entry;
-        AtomicFile.WriteAllText(path, root.ToJsonString(new JsonSerializerOptions { WriteIndented = true, Encoder = System.Text.Encodings.Web.JavaScriptEncoder.UnsafeRelaxedJsonEscaping }) + Environment.NewLine);
+        AtomicFile.WriteAllText(path, root.ToJsonString(JsonFiles.Options) + Environment.NewLine);
     }
 
     // A manifest that is missing, unreadable or not ours is replaced rather than refused: it only records.

@@ -1,5 +1,3 @@
-using System.Text.Encodings.Web;
-using System.Text.Json;
 using System.Text.Json.Nodes;
 using Decohere.Analyses.Check;
 using Decohere.Core;
@@ -12,9 +10,6 @@ namespace Decohere.Reports;
 /// <summary>Writes summary.json: per stage and mode the end state and steady state, derived quantities, warnings and provenance.</summary>
 public static class SummaryJson
 {
-    /// <summary>Options shared by every JSON file the tool writes.</summary>
-    public static JsonSerializerOptions Options { get; } = new() { WriteIndented = true, Encoder = JavaScriptEncoder.UnsafeRelaxedJsonEscaping };
-
     /// <summary>A finite number, or null (JSON has no NaN or ∞).</summary>
     public static JsonNode? Number(double value) => double.IsFinite(value) ? JsonValue.Create(value) : null;
 
@@ -151,6 +146,6 @@ public static class SummaryJson
     public static void Write(JsonObject json, string path)
     {
         Sanitize(json);
-        AtomicFile.WriteAllText(path, json.ToJsonString(Options) + Environment.NewLine);
+        AtomicFile.WriteAllText(path, json.ToJsonString(JsonFiles.Options) + Environment.NewLine);
     }
 }

@@ -310,8 +310,5 @@ public static class ScenarioFormat
 
     /// <summary>The schema file's text (indented, LF line ends, trailing newline).</summary>
     public static string SchemaText() =>
-        Schema().ToJsonString(new System.Text.Json.JsonSerializerOptions
-        {
-            WriteIndented = true, Encoder = System.Text.Encodings.Web.JavaScriptEncoder.UnsafeRelaxedJsonEscaping,
-        }).Replace("\r\n", "\n", StringComparison.Ordinal) + "\n";
+        Schema().ToJsonString(IO.JsonFiles.Options).Replace("\r\n", "\n", StringComparison.Ordinal) + "\n";
 }
