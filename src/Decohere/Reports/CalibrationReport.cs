@@ -40,6 +40,6 @@ public sealed class CalibrationReport : IReport<CalibrationResult>
         ["correlation"] = SummaryJson.Number(r.Correlation),
         ["goodness_of_fit"] = FitReport.GoodnessJson(r.Goodness),
         ["version"] = Provenance.Version,
-        ["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]),
+        ["warnings"] = SummaryJson.Strings(r.Warnings),
     };
 }

@@ -87,7 +87,7 @@ public sealed class CoolingReport : IReport<CoolingResult>
                     ["occupancy_err"] = p.Error is { } e ? SummaryJson.Number(e) : null, ["fitted"] = SummaryJson.Number(f.Fitted[i]),
                 })]),
             };
-        root["warnings"] = new JsonArray([.. result.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        root["warnings"] = SummaryJson.Strings(result.Warnings);
         return root;
     }
 

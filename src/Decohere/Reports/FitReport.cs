@@ -113,7 +113,7 @@ public sealed class FitReport : IReport<FitResult>
         root["goodness_of_fit"] = GoodnessJson(fit.Goodness);
         root["evaluations"] = fit.Evaluations;
         root["elapsed_s"] = Math.Round(fit.ElapsedSeconds, 3);
-        root["warnings"] = new JsonArray([.. fit.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        root["warnings"] = SummaryJson.Strings(fit.Warnings);
         return root;
     }
 

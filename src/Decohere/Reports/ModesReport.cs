@@ -88,7 +88,7 @@ public sealed class ModesReport : IReport<ModesResult>
                 ["outer_band_edge_hz"] = c.OuterEdgeHz,
                 ["edge_state_decay_length_cells"] = c.DecayLengthCells is { } d ? SummaryJson.Number(d) : null,
             };
-        root["warnings"] = new JsonArray(result.Warnings.Select(w => (JsonNode)JsonValue.Create(w)).ToArray());
+        root["warnings"] = SummaryJson.Strings(result.Warnings);
         return root;
     }
 

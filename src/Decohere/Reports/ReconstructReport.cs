@@ -51,7 +51,7 @@ public sealed class ReconstructReport : IReport<ReconstructionResult>
             ["p_value"] = SummaryJson.Number(result.PValue),
         };
         root["iterations"] = result.Iterations;
-        root["warnings"] = new JsonArray(result.Warnings.Select(w => (JsonNode)JsonValue.Create(w)).ToArray());
+        root["warnings"] = SummaryJson.Strings(result.Warnings);
         SummaryJson.Write(root, json);
         return [table, json];
     }

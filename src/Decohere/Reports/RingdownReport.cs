@@ -62,7 +62,7 @@ public sealed class RingdownReport : IReport<RingdownResult>
             ["degrees_of_freedom"] = r.DegreesOfFreedom,
             ["p_value"] = r.PValue is { } p ? SummaryJson.Number(p) : null,
         };
-        root["warnings"] = new JsonArray([.. r.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        root["warnings"] = SummaryJson.Strings(r.Warnings);
         return root;
     }
 

@@ -39,7 +39,7 @@ public sealed class RunReport(RunFiles? files = null) : IReport<RunResult>
             json["readout"] = ReadoutSummary.Build(sampling.Sampler, sampling.Estimates, settings);
         }
         // The run's warnings: the check's and the estimates' (an uncertainty-relation violation names its delay).
-        json["warnings"] = new JsonArray([.. result.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        json["warnings"] = SummaryJson.Strings(result.Warnings);
         if (result.Trajectories is { } t)
             json["trajectories"] = new JsonObject { ["count"] = t.Count, ["times"] = t.Times, ["seed"] = result.Scenario.Seed };
         cancel.ThrowIfCancellationRequested();

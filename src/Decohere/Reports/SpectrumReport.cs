@@ -105,7 +105,7 @@ public sealed class SpectrumReport : IReport<SpectrumResult>
             ["naive_occupancy"] = a.NaiveOccupancy is { } n ? SummaryJson.Number(n) : null,
             ["true_occupancy"] = SummaryJson.Number(a.TrueOccupancy),
         })]);
-        root["warnings"] = new JsonArray([.. result.Warnings.Select(w => (JsonNode)JsonValue.Create(w))]);
+        root["warnings"] = SummaryJson.Strings(result.Warnings);
         return root;
     }
 

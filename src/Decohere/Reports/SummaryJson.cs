@@ -13,6 +13,9 @@ public static class SummaryJson
     /// <summary>A finite number, or null (JSON has no NaN or ∞).</summary>
     public static JsonNode? Number(double value) => double.IsFinite(value) ? JsonValue.Create(value) : null;
 
+    /// <summary>A list of warnings (or any messages) as a JSON array of strings.</summary>
+    public static JsonArray Strings(IEnumerable<string> messages) => new([.. messages.Select(w => (JsonNode)JsonValue.Create(w))]);
+
     /// <summary>The suffix of the key that says why the value beside it is null: <c>squeezing_db</c> → <c>squeezing_db_reason</c>.</summary>
     public const string ReasonSuffix = "_reason";
 
@@ -135,7 +138,7 @@ public static class SummaryJson
             stages.Add((JsonNode)stage);
         }
         root["stages"] = stages;
-        root["warnings"] = new JsonArray(report.Warnings.Select(w => (JsonNode)JsonValue.Create(w)).ToArray());
+        root["warnings"] = Strings(report.Warnings);
         return root;
     }
 

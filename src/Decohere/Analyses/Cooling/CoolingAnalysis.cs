@@ -144,7 +144,7 @@ public static class CoolingAnalysis
         var cavity = scenario.ModeNamed(tone.Cavity);
         var mech = scenario.ModeNamed(tone.Mechanical);
         double kappa = cavity.DecayRate, gamma = mech.DecayRate;
-        double couplingHz = Math.Sqrt(cooperativity * kappa * gamma) / 2 / (2 * Math.PI);
+        double couplingHz = Physics.CouplingForCooperativity(cooperativity, cavity.LinewidthHz, mech.LinewidthHz);
         var driven = stage with { Tones = stage.Tones.SetItem(toneIndex, tone with { CouplingHz = couplingHz, Form = CouplingForm.Direct }) };
         double nc0 = scenario.BathOf(cavity, stage).Occupancy;
         double heating = law?.ExcessAt(ModelBuilder.Cooperativity(scenario, cavity, driven)) ?? 0;
