@@ -47,6 +47,12 @@ public static class FitCommand
             Description = "Prior on a parameter path: PATH=MEAN±SD (Gaussian, also MEAN+-SD) or PATH=LOW..HIGH (bounded), in the path's units; frees the path. Repeatable.",
             AllowMultipleArgumentsPerToken = false,
         };
+        var fixedValue = new Option<string[]>("--fixed")
+        {
+            Description = "A parameter held fixed at a value known to ± SD: PATH=VALUE±SD (also VALUE+-SD), in the path's units. The fit uses VALUE and " +
+                "reports how far a 1σ error in it moves each estimate (a warning when the shift is ≥ 0.2 standard errors). Repeatable.",
+            AllowMultipleArgumentsPerToken = false,
+        };
         var calibration = new Option<FileInfo?>("--calibration")
         {
             Description = "fit-noise.json of a noise calibration: the data are in measured units; convert them with its gain and take its added noise as a prior.",
@@ -57,7 +63,7 @@ public static class FitCommand
         var limits = new Cli.LimitOptions();
         var command = new Command("fit", "Fit scenario parameters (bath, damping, added noise) to measured data by maximum likelihood; write fit.json, fit.parquet, fit.png/.svg and the results table fit.md/.tex.")
         {
-            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, calibration, output, format, quiet,
+            scenario, data, free, columns, delayUnit, mode, starts, noProfiles, prior, fixedValue, calibration, output, format, quiet,
         };
         foreach (var option in limits.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
@@ -71,6 +77,7 @@ public static class FitCommand
                 Starts = parse.GetValue(starts),
                 Profiles = !parse.GetValue(noProfiles),
                 Priors = [.. (parse.GetValue(prior) ?? []).Select(text => FitPrior.Parse(text, s))],
+                Fixed = [.. (parse.GetValue(fixedValue) ?? []).Select(text => FitPrior.Parse(text, s, "fixed"))],
                 Calibration = parse.GetValue(calibration) is { } file ? CalibrationFile.Read(file.FullName) : null,
             };
             var result = FitAnalysis.Solve(s, settings, fitData, cancel);
@@ -93,7 +100,7 @@ public static class FitCommand
     internal static readonly IReadOnlyDictionary<string, string> Flags = new Dictionary<string, string>
     {
         ["free parameters"] = "--free", ["starts"] = "--starts", ["column mapping"] = "--column", ["delay unit"] = "--delay-unit",
-        ["data file"] = "--data", ["prior"] = "--prior", ["calibration"] = "--calibration",
+        ["data file"] = "--data", ["prior"] = "--prior", ["fixed"] = "--fixed", ["calibration"] = "--calibration",
     };
 
     /// <summary>The terminal table: each free parameter, derived quantity and identified combination, named and scaled as in fit.md.</summary>

@@ -91,6 +91,12 @@ public sealed class FitReport : IReport<FitResult>
                 ["added_noise"] = SummaryJson.Number(c.AddedNoise), ["added_noise_sd"] = SummaryJson.Number(c.AddedNoiseSd),
             }
             : null;
+        // SI units: each fixed parameter's value ± sd, and the shift of every fitted parameter per +1σ of it.
+        root["fixed"] = new JsonArray([.. fit.FixedBiases.Select(b => (JsonNode)new JsonObject
+        {
+            ["path"] = b.Path, ["value"] = SummaryJson.Number(b.Value), ["sd"] = SummaryJson.Number(b.Sd),
+            ["shift_per_sd"] = new JsonObject(fit.Parameters.Select((e, k) => KeyValuePair.Create<string, JsonNode?>(e.Name, SummaryJson.Number(b.ShiftPerSd[k])))),
+        })]);
         root["parameters"] = new JsonObject(fit.Parameters.Select((e, k) =>
             KeyValuePair.Create<string, JsonNode?>(e.Name, EstimateJson(e, Quantity.SiUnit(fit.Paths[k].Dimension) is { Length: > 0 } u ? u : "quanta"))));
         root["derived"] = new JsonObject(fit.Derived.Select(e =>

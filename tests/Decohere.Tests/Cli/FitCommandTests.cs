@@ -104,6 +104,15 @@ public class FitCommandTests
             await File.WriteAllTextAsync(csv, "delay_s,var_i,var_q,shots\n0,1,-1,10\n");
             Assert.Equal(CliApp.BadInput, await CliApp.InvokeAsync(Root(), ["fit", yaml, "--data", csv, "--out", dir, "--quiet"], Console));
             Assert.False(File.Exists(Path.Combine(dir, "fit.json")));
+            // A fixed parameter needs its uncertainty; a bound is a prior, not a fixed value.
+            string good = Path.Combine(dir, "good.csv");
+            await File.WriteAllTextAsync(good, SyntheticData.VariancesCsv(SyntheticData.Variances(truth, [0.01, 0.02, 0.03], 500, 4)));
+            var error = new StringWriter();
+            var capture = AppConsole.Capture(TextWriter.Null, error);
+            Assert.Equal(CliApp.BadInput, await CliApp.InvokeAsync(new RootCommand("test") { FitCommand.Create(capture) },
+                ["fit", yaml, "--data", good, "--fixed", "modes.drum.linewidth=5Hz..20Hz", "--out", dir, "--quiet"], capture));
+            Assert.Contains("--fixed: modes.drum.linewidth", error.ToString());
+            Assert.False(File.Exists(Path.Combine(dir, "fit.json")));
         }
         finally
         {

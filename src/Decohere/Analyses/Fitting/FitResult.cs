@@ -15,6 +15,12 @@ public sealed record FitSettings
     /// <summary>Priors on parameters (their paths are freed if not listed in <see cref="Free"/>).</summary>
     public ImmutableArray<FitPrior> Priors { get; init; } = [];
 
+    /// <summary>
+    /// Parameters held fixed at a value known only to ± sd (Gaussian <see cref="FitPrior"/>s, not freed): the fit sets them and
+    /// reports, for each, how far a 1σ error in it moves every estimate.
+    /// </summary>
+    public ImmutableArray<FitPrior> Fixed { get; init; } = [];
+
     /// <summary>A readout calibration: data in measured units, converted to quanta with the gain's uncertainty carried.</summary>
     public FitCalibration? Calibration { get; init; }
 
@@ -55,6 +61,12 @@ public sealed record IdentifiedCombination(string Name, string Expression, strin
 /// <summary>Data and model at one delay: the model's prediction and its pointwise standard deviation from the parameter covariance.</summary>
 public sealed record DelayFit(DelayObservation Data, ReadoutPrediction Model, ReadoutPrediction ModelSd);
 
+/// <summary>
+/// A parameter held fixed at <paramref name="Value"/> ± <paramref name="Sd"/> (SI units) and the shift of each fitted parameter
+/// (in the order of <see cref="FitResult.Parameters"/>, their SI units) when the fixed value is raised by one standard deviation.
+/// </summary>
+public sealed record FixedParameterBias(string Path, double Value, double Sd, ImmutableArray<double> ShiftPerSd);
+
 /// <summary>The fitted curve on a fine delay grid, for plots.</summary>
 public sealed record FitCurve(ImmutableArray<double> DelaysS, ImmutableArray<ReadoutPrediction> Model, ImmutableArray<ReadoutPrediction> ModelSd);
 
@@ -80,6 +92,9 @@ public sealed record FitResult(
 {
     /// <summary>The priors the likelihood included (those given, and a calibration's added noise).</summary>
     public ImmutableArray<FitPrior> Priors { get; init; } = [];
+
+    /// <summary>The parameters held fixed with a stated uncertainty, and the bias each can cause.</summary>
+    public ImmutableArray<FixedParameterBias> FixedBiases { get; init; } = [];
 
     /// <summary>The noise calibration the data were converted with, if any.</summary>
     public FitCalibration? Calibration { get; init; }
