@@ -152,8 +152,9 @@ public static class RingdownAnalysis
             var interval = fit.Intervals[i];
             double value = map(b[i]);
             // Through a monotone map the interval maps end to end; the standard error by the derivative.
-            double h = 1e-6 * b[i];
-            double se = Math.Abs((map(b[i] + h) - map(b[i] - h)) / (2 * h)) * fit.StandardErrors[i];
+            double h = 1e-6 * b[i], sd = fit.StandardErrors[i];
+            // At a value of 0 (a floor on its bound) the map may have no derivative (√): the change over one standard error instead.
+            double se = h > 0 ? Math.Abs((map(b[i] + h) - map(b[i] - h)) / (2 * h)) * sd : Math.Abs(map(b[i] + sd) - map(b[i]));
             // A profile still flat at the lower bound of a non-negative parameter leaves the interval open down to 0.
             double? lo = interval is { LowReached: true } ? map(interval.Low) : interval is not null && fit.Parameters[i].IsLogarithmic ? map(0) : null;
             double? hi = interval is { HighReached: true } ? map(interval.High) : null;
