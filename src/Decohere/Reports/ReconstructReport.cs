@@ -31,25 +31,25 @@ public sealed class ReconstructReport : IReport<ReconstructionResult>
         cancel.ThrowIfCancellationRequested();
         var root = SummaryJson.ProvenanceRoot(result.Provenance);
         root["method"] = "maximum likelihood (weighted least squares) of H = Σ t_i M_i on the lattice's graph; Wald intervals from the inverse Fisher matrix";
-        root["terms"] = new JsonObject(t.Select(x => KeyValuePair.Create(x.Name, (JsonNode?)new JsonObject
+        const string undetermined = "the data do not determine this term alone (see undetermined_combinations)";
+        root["terms"] = new JsonObject(t.Select(x =>
         {
-            ["kind"] = Kind(x.Kind),
-            ["site_a"] = x.SiteA,
-            ["site_b"] = x.SiteB,
-            ["value_hz"] = SummaryJson.Number(x.ValueHz),
-            ["stderr_hz"] = SummaryJson.Number(x.StdErrHz),
-            ["ci_low_hz"] = SummaryJson.Number(x.LowHz),
-            ["ci_high_hz"] = SummaryJson.Number(x.HighHz),
-            ["nominal_hz"] = SummaryJson.Number(x.NominalHz),
-            ["identified"] = x.Identified,
-        })));
+            var o = new JsonObject { ["kind"] = Kind(x.Kind), ["site_a"] = x.SiteA, ["site_b"] = x.SiteB };
+            SummaryJson.Set(o, "value_hz", x.ValueHz, undetermined);
+            SummaryJson.Set(o, "stderr_hz", x.StdErrHz, undetermined);
+            SummaryJson.Set(o, "ci_low_hz", x.LowHz, undetermined);
+            SummaryJson.Set(o, "ci_high_hz", x.HighHz, undetermined);
+            SummaryJson.Set(o, "nominal_hz", x.NominalHz, "the scenario gives no nominal value for this term");
+            o["identified"] = x.Identified;
+            return KeyValuePair.Create(x.Name, (JsonNode?)o);
+        }));
         root["undetermined_combinations"] = new JsonArray(result.UndeterminedCombinations.Select(c => (JsonNode)JsonValue.Create(c)).ToArray());
         root["goodness_of_fit"] = new JsonObject
         {
             ["chi_square"] = SummaryJson.Number(result.ChiSquare),
             ["degrees_of_freedom"] = result.DegreesOfFreedom,
-            ["p_value"] = SummaryJson.Number(result.PValue),
         };
+        SummaryJson.Set(root["goodness_of_fit"]!.AsObject(), "p_value", result.PValue, "no degrees of freedom left to test the fit");
         root["iterations"] = result.Iterations;
         root["warnings"] = SummaryJson.Strings(result.Warnings);
         SummaryJson.Write(root, json);
