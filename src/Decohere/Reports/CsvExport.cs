@@ -96,6 +96,8 @@ public static class CsvExport
             var values = new TValue[n];
             int read = 0;
             while (read < n && column.HasNext) read += column.ReadBatch(values.AsSpan(read));
+            // A column shorter than its row group would otherwise be padded with default values.
+            if (read < n) throw new InvalidDataException($"column '{column.ColumnDescriptor.Name}' holds {read} of the row group's {n} values");
             var cells = new string[n];
             for (int k = 0; k < n; k++) cells[k] = Format(values[k]);
             return cells;
