@@ -18,9 +18,13 @@ public static class CheckCommand
         {
             scenario,
         };
+        var measured = new MeasuredOptions();
+        foreach (var option in measured.All) command.Options.Add(option);
         command.SetAction((parse, _) => Cli.Guard(console, null, () =>
         {
-            var result = CheckAnalysis.Solve(Cli.Load(parse.GetValue(scenario)));
+            var values = measured.Read(parse);
+            var result = CheckAnalysis.Solve(values.Apply(Cli.Load(parse.GetValue(scenario))));
+            foreach (var line in values.Describe()) console.Out.MarkupLineInterpolated($"measured: {line}");
             Print(console, result);
             return Task.FromResult(Cli.Ok);
         }));

@@ -31,17 +31,21 @@ public static class LifetimeCommand
         var output = Cli.OutOption();
         var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
+        var measured = new MeasuredOptions();
         var command = new Command("lifetime",
             "Physical and observable squeezing lifetime after the drives stop, the single-mode estimate, sensitivities; " +
             "writes lifetime.json, lifetime.parquet and lifetime.png/.svg.")
         {
             scenario, after, threshold, confidence, output, format, quiet,
         };
+        foreach (var option in measured.All) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
-            var s = Cli.Load(parse.GetValue(scenario));
+            var values = measured.Read(parse);
+            var s = values.Apply(Cli.Load(parse.GetValue(scenario)));
             var settings = new LifetimeSettings
             {
+                Measured = values,
                 AfterStage = parse.GetValue(after),
                 ThresholdDb = Cli.Quantity(parse.GetValue(threshold)!, Dimension.Decibel, "threshold"),
                 Confidence = parse.GetValue(confidence),
@@ -87,6 +91,12 @@ public static class LifetimeCommand
         table.AddRow("[bold]observable lifetime[/]",
             c.ObservableStatus == LifetimeStatus.NeverResolved ? "[red]never resolved[/]" : Time(c.ObservableLifetimeS), Markup.Escape(readout));
         if (c.PowerAtStart is { } p0) table.AddRow("power at the reference", p0.ToString("F4"), "");
+        if (!report.Settings.Measured.Values.IsEmpty)
+        {
+            string from = string.Join(", ", report.Settings.Measured.Values.Select(v => v.Path));
+            table.AddRow("± from measured values", $"{Time(report.PhysicalLifetimeSd)} / {Time(report.ObservableLifetimeSd)}",
+                Markup.Escape($"physical / observable, 1σ from the errors of {from} (with their correlations)"));
+        }
         return table;
     }
 

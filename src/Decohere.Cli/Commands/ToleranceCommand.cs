@@ -44,15 +44,19 @@ public static class ToleranceCommand
         var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
+        var measured = new MeasuredOptions();
         var command = new Command("tolerance",
             "Power to resolve the squeezing at a delay over a grid of added noise and shots; the largest tolerable added noise and " +
             "the fewest shots at a target power; writes tolerance.parquet, tolerance.json and tolerance.png/.svg.")
         {
             scenario, noise, shots, delay, power, confidence, calibration, threshold, after, draws, output, format, quiet,
         };
-        foreach (var option in limits.All) command.Options.Add(option);
+        foreach (var option in limits.All.Concat(measured.All)) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
+            var values = measured.Read(parse);
+            // A calibrated added noise brings its own uncertainty unless one is given.
+            double? calibrated = values.Values.FirstOrDefault(v => v.Path == "readout.added_noise" && double.IsFinite(v.Sd))?.Sd;
             var settings = new ToleranceSettings
             {
                 AddedNoise = ToleranceSettings.ParseAddedNoise(parse.GetValue(noise)!),
@@ -60,14 +64,14 @@ public static class ToleranceCommand
                 DelayS = Cli.Quantity(parse.GetValue(delay)!, Dimension.Time, "delay"),
                 TargetPower = parse.GetValue(power),
                 Confidence = parse.GetValue(confidence),
-                CalibrationUncertainty = parse.GetValue(calibration),
+                CalibrationUncertainty = parse.GetValue(calibration) ?? calibrated,
                 ThresholdDb = Cli.Quantity(parse.GetValue(threshold)!, Dimension.Decibel, "threshold"),
                 AfterStage = parse.GetValue(after),
                 Draws = parse.GetValue(draws),
             };
             settings.Validate();
             ResourceEstimates.Tolerance(settings).Enforce(limits.Read(parse));
-            var s = Cli.Load(parse.GetValue(scenario));
+            var s = values.Apply(Cli.Load(parse.GetValue(scenario)));
             var result = ToleranceAnalysis.Solve(s, settings, cancel);
             var paths = await Cli.WriteOwned(new ToleranceReport(), result, Cli.OutputDirectory(parse.GetValue(output), s), OutputSet.Tolerance, cancel, CsvExport.WantsCsv(parse.GetValue(format)));
             if (!parse.GetValue(quiet))

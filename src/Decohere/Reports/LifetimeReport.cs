@@ -66,6 +66,18 @@ public sealed class LifetimeReport : IReport<LifetimeResult>
         root["readout"] = c.Readout is { } r
             ? new JsonObject { ["method"] = r.Method, ["added_noise"] = r.AddedNoise, ["shots"] = r.Shots, ["confidence"] = r.Confidence }
             : null;
+        // Values measured elsewhere (SI units) that the scenario was given, and the lifetimes' spread from their errors.
+        root["measured_values"] = new JsonArray([.. report.Settings.Measured.Values.Select(v =>
+        {
+            var o = new JsonObject { ["path"] = v.Path, ["value"] = v.Value, ["source"] = v.Source };
+            SummaryJson.Set(o, "sd", v.Sd, "the source gives no standard error");
+            return (JsonNode)o;
+        })]);
+        if (!report.Settings.Measured.Values.IsEmpty)
+        {
+            SummaryJson.Set(root, "physical_lifetime_sd_s", report.PhysicalLifetimeSd, "a +1σ change of a measured value leaves no physical lifetime");
+            SummaryJson.Set(root, "observable_lifetime_sd_s", report.ObservableLifetimeSd, "no readout, or a +1σ change leaves no observable lifetime");
+        }
         root["sensitivities"] = new JsonArray(report.Sensitivities.Select(s =>
         {
             var o = new JsonObject { ["parameter"] = s.Parameter, ["change"] = s.Change, ["from"] = s.From, ["to"] = s.To };

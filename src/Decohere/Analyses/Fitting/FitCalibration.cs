@@ -1,4 +1,5 @@
 using System.Collections.Immutable;
+using Decohere.Scenarios;
 using Decohere.Statistics;
 
 namespace Decohere.Analyses.Fitting;
@@ -13,6 +14,9 @@ namespace Decohere.Analyses.Fitting;
 /// </summary>
 public sealed record FitCalibration(string Source, double Gain, double GainSd, double AddedNoise, double AddedNoiseSd)
 {
+    /// <summary>The calibrated input-referred added noise as the measured value of <c>readout.added_noise</c>, for planning.</summary>
+    public MeasuredValues AddedNoiseValue() => MeasuredValues.From([new MeasuredValue("readout.added_noise", AddedNoise, AddedNoiseSd, Source)]);
+
     /// <summary>The data in quanta for a gain <paramref name="gain"/>.</summary>
     public static FitData ToQuanta(FitData data, double gain)
     {

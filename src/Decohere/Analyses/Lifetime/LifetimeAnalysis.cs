@@ -31,6 +31,12 @@ public sealed record LifetimeSettings
     /// <summary>Rows of the delay table.</summary>
     public int CurvePoints { get; init; } = 241;
 
+    /// <summary>
+    /// Values measured elsewhere that the scenario already holds (see <see cref="MeasuredValues.Apply"/>): each with a standard
+    /// error adds a +1σ sensitivity, and together they give the lifetimes' standard deviations.
+    /// </summary>
+    public MeasuredValues Measured { get; init; } = MeasuredValues.None;
+
     /// <summary>Refuses a reference stage the scenario does not have, listing the stages it has.</summary>
     /// <exception cref="InputException">Unknown stage.</exception>
     public static void CheckReferenceStage(Scenario scenario, string? stage)
@@ -125,6 +131,12 @@ public sealed record LifetimeResult(
 {
     /// <inheritdoc/>
     public ImmutableArray<string> Warnings => Core.Notes;
+
+    /// <summary>Standard deviation of the physical lifetime (s) from the measured values' errors; null without them or when a change is undefined.</summary>
+    public double? PhysicalLifetimeSd { get; init; }
+
+    /// <summary>Standard deviation of the observable lifetime (s) from the measured values' errors.</summary>
+    public double? ObservableLifetimeSd { get; init; }
 }
 
 /// <summary>
@@ -174,8 +186,16 @@ public static class LifetimeAnalysis
             varMin.Add(v);
             power.Add(core.Readout is { } r ? VarianceStatistics.ResolutionProbability(v, r.AddedNoise, r.Shots, threshold, r.Confidence) : null);
         }
+        var measured = settings.Measured;
+        // One +1σ row per measured value with an error (see Sensitivities); a value without an error contributes nothing.
+        var perSd = measured.Values.Select(v => sensitivities.LastOrDefault(x => x.Parameter == v.Path && x.Change == MeasuredChange)).ToArray();
+        bool propagate = !measured.Values.IsEmpty && settings.Sensitivities;
         return new LifetimeResult(scenario, settings, core, sensitivities, delays.MoveToImmutable(), varMin.MoveToImmutable(), power.MoveToImmutable(),
-            Provenance.For(scenario), ResultStatuses.From(core.Notes), WorkStatistics.Since(started));
+            Provenance.For(scenario), ResultStatuses.From(core.Notes), WorkStatistics.Since(started))
+        {
+            PhysicalLifetimeSd = propagate ? measured.Propagate([.. perSd.Select(x => x is null ? 0 : x.PhysicalChangeS)]) : null,
+            ObservableLifetimeSd = propagate && core.Readout is not null ? measured.Propagate([.. perSd.Select(x => x is null ? 0 : x.ObservableChangeS)]) : null,
+        };
     }
 
     /// <summary>The lifetimes of a scenario, without sensitivities.</summary>
@@ -258,9 +278,12 @@ public static class LifetimeAnalysis
             physical, physicalStatus, past, approximate, gamma, nth, readout, power0, observable, observableStatus, notes.ToImmutable());
     }
 
+    /// <summary>The change of a sensitivity row for a measured value: one standard error up.</summary>
+    public const string MeasuredChange = "+1σ";
+
     /// <summary>
     /// One-sided finite differences on the exact model through <see cref="ParameterPath"/>: +1 mK of the mode's bath
-    /// temperature, ×2 of its linewidth, +0.1 quanta of added noise, ×2 shots.
+    /// temperature, ×2 of its linewidth, +0.1 quanta of added noise, ×2 shots, and +1σ of each measured value.
     /// </summary>
     private static ImmutableArray<LifetimeSensitivity> Sensitivities(Scenario scenario, LifetimeSettings settings, LifetimeCore core)
     {
@@ -279,6 +302,8 @@ public static class LifetimeAnalysis
             changes.Add(("readout.added_noise", "+0.1 quanta", n => n + 0.1, stated));
             changes.Add(("readout.shots", "×2", n => Math.Min(2 * n, int.MaxValue), scenario));
         }
+        foreach (var v in settings.Measured.Values.Where(v => double.IsFinite(v.Sd) && v.Sd > 0))
+            changes.Add((v.Path, MeasuredChange, x => x + v.Sd, scenario));
         var quiet = settings with { Sensitivities = false };
         var result = ImmutableArray.CreateBuilder<LifetimeSensitivity>();
         foreach (var (path, change, apply, from) in changes)
