@@ -235,25 +235,41 @@ public static class SpectrumAnalysis
         return new Spectrum(mode, field, tone, offset, Row(0), Row(1), Row(2), Row(3));
     }
 
-    // Tone t probing its cavity alone (the other tones on that cavity off; tones on other cavities kept).
-    private static (SidebandPower, Spectrum) Probe(Scenario scenario, Stage stage, int t, ImmutableArray<Mode> modes,
-        ImmutableArray<double> freqs, SpectrumSettings settings)
+    /// <summary>
+    /// The sideband of tone <paramref name="t"/> of a stage probing its cavity alone (the other tones on that cavity off, tones
+    /// on other cavities kept), from two steady states; also the probe's model, for its spectrum.
+    /// </summary>
+    /// <exception cref="UnstableDynamicsException">The stage with the tone alone, or without it, has no steady state.</exception>
+    public static SidebandPower SidebandOf(Scenario scenario, Stage stage, int t, double efficiency = 1) => SidebandOf(scenario, stage, t, efficiency, out _);
+
+    private static SidebandPower SidebandOf(Scenario scenario, Stage stage, int t, double efficiency, out LinearModel probe)
     {
+        var modes = ModelBuilder.StateModes(scenario);
         var tone = stage.Tones[t];
         var probeStage = stage with { Tones = [.. stage.Tones.Where((x, i) => i == t || x.Cavity != tone.Cavity)] };
         var offStage = stage with { Tones = [.. stage.Tones.Where(x => x.Cavity != tone.Cavity)] };
-        var probe = ModelBuilder.Build(scenario, probeStage);
+        probe = ModelBuilder.Build(scenario, probeStage);
         var off = ModelBuilder.Build(scenario, offStage);
         var vProbe = SteadyState(probe, $"{stage.Name}' with tone {t} alone on cavity '{tone.Cavity}");
         var vOff = SteadyState(off, $"{stage.Name}' without the tones on cavity '{tone.Cavity}");
         int c = modes.Select(m => m.Name).ToList().IndexOf(tone.Cavity), m = modes.Select(x => x.Name).ToList().IndexOf(tone.Mechanical);
-        var cavity = modes[c];
-        double kappa = cavity.DecayRate, nc = ModelBuilder.BathOccupancy(scenario, cavity, probeStage);
+        double kappa = modes[c].DecayRate;
         double Occupancy(MathNet.Numerics.LinearAlgebra.Matrix<double> v, int j) => Physics.ModeOccupancy(v[2 * j, 2 * j], v[2 * j + 1, 2 * j + 1], 0, 0);
-        double power = settings.Efficiency * kappa * (Occupancy(vProbe, c) - Occupancy(vOff, c));
+        double power = efficiency * kappa * (Occupancy(vProbe, c) - Occupancy(vOff, c));
         double g = Physics.Angular(tone.CouplingHz);
-        var sideband = new SidebandPower(t, tone.Cavity, tone.Mechanical, tone.Sideband, tone.CouplingHz, 4 * g * g / kappa, power, Occupancy(vProbe, m));
+        return new SidebandPower(t, tone.Cavity, tone.Mechanical, tone.Sideband, tone.CouplingHz, 4 * g * g / kappa, power, Occupancy(vProbe, m));
+    }
 
+    // The sideband and its spectrum in the cavity's output.
+    private static (SidebandPower, Spectrum) Probe(Scenario scenario, Stage stage, int t, ImmutableArray<Mode> modes,
+        ImmutableArray<double> freqs, SpectrumSettings settings)
+    {
+        var sideband = SidebandOf(scenario, stage, t, settings.Efficiency, out var probe);
+        var tone = stage.Tones[t];
+        int c = modes.Select(m => m.Name).ToList().IndexOf(tone.Cavity);
+        var cavity = modes[c];
+        double kappa = cavity.DecayRate;
+        double nc = ModelBuilder.BathOccupancy(scenario, cavity, stage with { Tones = [.. stage.Tones.Where((x, i) => i == t || x.Cavity != tone.Cavity)] });
         int count = freqs.Length;
         var response = new LinearResponse(probe);
         // Only the cavity's rows of the susceptibility are needed here.
