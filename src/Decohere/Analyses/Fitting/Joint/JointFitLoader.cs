@@ -82,6 +82,8 @@ public static class JointFitLoader
     {
         public YamlReader Reader { get; } = new();
 
+        private readonly List<(string DataSet, string Key, string Parameter, YamlNode Node)> _mentioned = [];
+
         public async Task<JointFitProblem?> BuildAsync(YamlNode root, string source, string text, CancellationToken cancel)
         {
             var map = Reader.Mapping(root is YamlScalarNode { Value: "" } ? null : root, "", "name", "parameters", "data");
@@ -99,11 +101,13 @@ public static class JointFitLoader
             // Every setting a data set leaves unmapped that has no value of its own becomes that data set's own parameter.
             foreach (var (parameter, target) in uses.Where(u => !byName.ContainsKey(u.Parameter) && u.Parameter.StartsWith(u.Target.DataSet + ".", StringComparison.Ordinal)))
                 if (!names.Contains(parameter)) names.Add(parameter);
-            foreach (var (parameter, target) in uses)
-                if (!names.Contains(parameter))
-                    Reader.Report($"data.{target.DataSet}.set.{target.Key}", target.Node,
+            // Checked on every mapping written, also of data sets that failed to load, so one bad file does not make its
+            // parameters look unused.
+            foreach (var (set, key, parameter, node) in _mentioned)
+                if (!names.Contains(parameter) && !parameter.StartsWith(set + ".", StringComparison.Ordinal))
+                    Reader.Report($"data.{set}.set.{key}", node,
                         $"unknown parameter '{parameter}'{NameSuggestion.Suggest(parameter, declared.Select(d => d.Name).ToArray())}; parameters: {string.Join(", ", declared.Select(d => d.Name))}");
-            foreach (var d in declared.Where(d => uses.All(u => u.Parameter != d.Name)))
+            foreach (var d in declared.Where(d => _mentioned.All(u => u.Parameter != d.Name)))
                 Reader.Report($"parameters.{d.Name}", d.Key, $"parameter '{d.Name}' is not used by any data set; map it in a data set's 'set' or remove it");
 
             var parameters = new List<JointParameter>();
@@ -252,13 +256,18 @@ public static class JointFitLoader
                 kind = null;
             }
             var map = Reader.Mapping(value, path, kind is null ? [.. Kinds.Values.SelectMany(k => k).Distinct()] : [.. Kinds[kind]]);
-            if (map is null || kind is null) return null;
-            var fileNode = Reader.Required(map, path, "file", "the data file, CSV, Parquet or HDF5 FILE.h5:/group, relative to this file");
-            string? file = fileNode is null ? null : Reader.String(fileNode, path + ".file");
+            if (map is null) return null;
             var set = Reader.NamedMapping(YamlReader.Get(map, "set"), path + ".set");
             var mapped = new List<(string Key, YamlScalarNode KeyNode, string Parameter, YamlNode Node)>();
             foreach (var (key, keyNode, target) in YamlReader.Entries(set))
-                if (Reader.String(target, $"{path}.set.{key}") is { } parameter) mapped.Add((key, keyNode, parameter, target));
+                if (Reader.String(target, $"{path}.set.{key}") is { } parameter)
+                {
+                    mapped.Add((key, keyNode, parameter, target));
+                    _mentioned.Add((name, key, parameter, target));
+                }
+            if (kind is null) return null;
+            var fileNode = Reader.Required(map, path, "file", "the data file, CSV, Parquet or HDF5 FILE.h5:/group, relative to this file");
+            string? file = fileNode is null ? null : Reader.String(fileNode, path + ".file");
             Scenario? scenario = null;
             if (kind is "delays" or "cooling")
             {
