@@ -184,4 +184,54 @@ public sealed class JointFitAnalysisTests
         var nc = joint.Parameters.Single(p => p.Parameter.Name == "n_bath_cooling").Estimate;
         Assert.InRange(NBath, nc.Value - 4 * nc.StandardError, nc.Value + 4 * nc.StandardError);
     }
+
+    [Fact]
+    public async Task ACalibratedDataSetAloneGivesWhatFitWithTheSameCalibrationGives()
+    {
+        // The example's heating curve in measured units (gain 2.5 per quantum), with a calibration of gain 2.5 ± 0.05 and
+        // added noise 5 ± 0.3 quanta: the joint fit of this one data set and fit --calibration must agree, both carrying the
+        // gain's uncertainty by refits at gain ± σ.
+        string dir = TestPaths.NewTempDirectory();
+        string example = Path.Combine(TestPaths.RepositoryRoot, "scenarios", "joint");
+        File.Copy(Path.Combine(example, "device.yaml"), Path.Combine(dir, "device.yaml"));
+        var lines = File.ReadAllLines(Path.Combine(example, "heating.csv"));
+        string I(double v) => v.ToString("R", System.Globalization.CultureInfo.InvariantCulture);
+        File.WriteAllLines(Path.Combine(dir, "measured.csv"), [lines[0], .. lines.Skip(1).Select(l => l.Split(',')).Select(f =>
+            string.Join(',', f[0], I(2.5 * double.Parse(f[1], System.Globalization.CultureInfo.InvariantCulture)),
+                I(2.5 * double.Parse(f[2], System.Globalization.CultureInfo.InvariantCulture)), I(2.5 * double.Parse(f[3], System.Globalization.CultureInfo.InvariantCulture)), f[4]))]);
+        File.WriteAllText(Path.Combine(dir, "fit-noise.json"), """
+            { "parameters": { "gain": { "value": 2.5, "stderr": 0.05 } }, "derived": { "added_noise_input_referred": { "value": 5, "stderr": 0.3 } } }
+            """);
+        File.WriteAllText(Path.Combine(dir, "fit.yaml"), """
+            parameters: { n_bath: { start: 30 }, gamma: { start: 8 Hz }, n_add: { start: 4 } }
+            data:
+              heating:
+                kind: delays
+                file: measured.csv
+                scenario: device.yaml
+                calibration: fit-noise.json
+                set: { modes.drum.bath.occupancy: n_bath, modes.drum.linewidth: gamma, readout.added_noise: n_add }
+            """);
+        var problem = await JointFitLoader.LoadAsync(Path.Combine(dir, "fit.yaml"));
+        var joint = JointFitAnalysis.Solve(problem, new JointFitSettings { Starts = 2 });
+        var scenario = ScenarioLoader.Load(Path.Combine(dir, "device.yaml"));
+        var data = await Decohere.IO.FitDataReader.ReadAsync(Path.Combine(dir, "measured.csv"), scenario);
+        var fit = FitAnalysis.Solve(scenario, new FitSettings
+        {
+            Free = ["modes.drum.bath.occupancy", "modes.drum.linewidth", "readout.added_noise"],
+            Calibration = Decohere.IO.CalibrationFile.Read(Path.Combine(dir, "fit-noise.json")),
+            Starts = 2,
+        }, data);
+        for (int k = 0; k < 3; k++)
+        {
+            var a = joint.Parameters[k].Estimate;
+            var b = fit.Parameters[k];
+            Assert.Equal("profile+gain", a.Method);
+            Assert.Equal(b.Value, a.Value, b.Value * 1e-4);
+            Assert.Equal(b.StandardError, a.StandardError, b.StandardError * 0.02);
+            Assert.Equal(b.Low, a.Low, 2e-3 * (b.High - b.Low));
+            Assert.Equal(b.High, a.High, 2e-3 * (b.High - b.Low));
+        }
+        Directory.Delete(dir, true);
+    }
 }
