@@ -133,6 +133,22 @@ public sealed class JointFitAnalysisTests
         Assert.InRange(width / combined, 0.8, 1.2);
     }
 
+    [Fact]
+    public void ADataSetItsModelDoesNotDescribeIsNamedAndTheOthersAreNot()
+    {
+        var random = new Random(3);
+        // The heating curve's errors stated four times too small: its deviance is about 16× its degrees of freedom.
+        var heating = Heating(random);
+        heating = heating with { Delays = [.. heating.Delays.Select(d => d with { OccupancyError = 0.25 })] };
+        var fit = JointFitAnalysis.Solve(SharedDamping(heating, Ringdown(random)), Quick with { Profiles = false });
+        Assert.Contains(fit.Warnings, w => w.Contains("data set 'heating' is not described well"));
+        Assert.DoesNotContain(fit.Warnings, w => w.Contains("data set 'ringdown'"));
+        // The ring-down's own deviance stays a χ² of its degrees of freedom (60 − 2 own − ½ shared = 57.5), within 4σ = 4√(2·57.5).
+        var ringdown = fit.DataSets.Single(s => s.Name == "ringdown");
+        Assert.Equal(57.5, ringdown.DegreesOfFreedom, 12);
+        Assert.InRange(ringdown.Deviance, 57.5 - 4 * Math.Sqrt(115), 57.5 + 4 * Math.Sqrt(115));
+    }
+
     /// <summary>
     /// Steady occupancies against cooperativity in the effective model with one red tone at the lower sideband and no
     /// off-resonant rates: n = (γn_th + A₋n_c)/(γ + A₋), A₋ = Cγ, so n = (n_th + C·n_c)/(1 + C) with n_c = 0.05 + 1e-4·C
