@@ -208,7 +208,7 @@ public static class RingdownAnalysis
 
     /// <summary>
     /// What <see cref="Minus2LogLikelihood"/> of energies is at the saturated model (every mean equal to its point), 2Σ[ln E + 1]:
-    /// subtracted, it leaves the deviance 2Σ[E/m − 1 − ln(E/m)]. Zero for amplitudes (χ² is already a deviance).
+    /// subtracted, it leaves the deviance 2Σ[E/m − 1 − ln(E/m)]. Zero for amplitudes (with stated σ the χ² is already a deviance).
     /// </summary>
     public static double SaturatedMinus2LogLikelihood(RingdownData data) =>
         data.Kind == RingdownKind.Energy ? 2 * data.Values.Sum(v => Math.Log(Math.Max(v, 1e-300)) + 1) : 0;

@@ -94,6 +94,7 @@ public sealed class JointFitLoaderTests : IDisposable
     public async Task UnknownKeysAndBadValuesNameTheAllowedOnes()
     {
         const string text = """
+            name: ../elsewhere
             parameters:
               gamma: { start: 8 Hz, prior: 5 Hz..2 Hz, scale: 2 }
             data:
@@ -108,6 +109,7 @@ public sealed class JointFitLoaderTests : IDisposable
         Assert.Contains(e.Problems, p => p.Path == "data.ringdown.scenario" && p.Message.Contains("allowed: kind, file, set, time_unit, sigma"));
         Assert.Contains(e.Problems, p => p.Path == "data.ringdown.set.decay" && p.Message.Contains("linewidth, initial, floor"));
         Assert.Contains(e.Problems, p => p.Path == "parameters.gamma.prior" && p.Message.Contains("lower bound must be below the upper"));
+        Assert.Contains(e.Problems, p => p.Path == "name" && p.Message.Contains("starting with a letter or digit"));
         Assert.All(e.Problems, p => Assert.True(p.Line > 0 && p.Column > 0, p.ToString()));
     }
 }

@@ -91,7 +91,7 @@ public static class JointFitAnalysis
         var parameters = problem.Parameters.Select(p => new FitParameter(p.Name, p.Start, p.Domain)).ToArray();
         int[]? profileOnly = settings.ProfileOnly.IsDefaultOrEmpty ? null : [.. settings.ProfileOnly.Select(name =>
             Array.FindIndex(parameters, q => q.Name == name) is var i and >= 0 ? i : throw new InputException($"profile: '{name}' is not a joint parameter"))];
-        var ml = Fit(problem.Terms, problem, parameters, settings with { }, profileOnly, cancel);
+        var ml = Fit(problem.Terms, problem, parameters, settings, profileOnly, cancel);
         var x = ml.Estimates;
         var warnings = new List<string>(ml.Warnings);
         double z = Normal.InvCDF(0, 1, 0.5 + settings.Confidence / 2);

@@ -48,6 +48,7 @@ public static class JointFitLoader
         YamlNode root;
         try
         {
+            if (ScenarioLoader.TooDeep(text) is { } deep) throw new ScenarioException(source, [deep]);
             var stream = new YamlStream();
             stream.Load(new StringReader(text));
             root = stream.Documents.Count > 0 ? stream.Documents[0].RootNode : new YamlScalarNode("");
@@ -76,7 +77,7 @@ public static class JointFitLoader
 
     /// <summary>A data set read from the file, its targets by parameter name, and how to build its term once indices are known.</summary>
     private sealed record Pending(string Name, List<(string Parameter, Target Target)> Uses, Func<Func<string, int>, IJointTerm> Build,
-        (FitCalibration Calibration, FitData Raw, string NoiseParameter, YamlNode Node)? Calibration);
+        (FitCalibration Calibration, FitData Raw, string NoiseParameter)? Calibration);
 
     private sealed class Builder(string directory)
     {
@@ -88,7 +89,13 @@ public static class JointFitLoader
         {
             var map = Reader.Mapping(root is YamlScalarNode { Value: "" } ? null : root, "", "name", "parameters", "data");
             if (root is YamlScalarNode { Value: "" }) Reader.Report("(file)", null, "the file is empty; a joint-fit file has 'parameters' and 'data'");
-            string name = YamlReader.Get(map, "name") is { } n ? Reader.String(n, "name") ?? "joint" : Path.GetFileNameWithoutExtension(source);
+            string name = Path.GetFileNameWithoutExtension(source);
+            if (YamlReader.Get(map, "name") is { } n && Reader.String(n, "name") is { } given)
+            {
+                // The name is the default output directory's: no path, as a scenario's name.
+                if (System.Text.RegularExpressions.Regex.IsMatch(given, @"^[A-Za-z0-9][A-Za-z0-9 _.+()-]*$") && !given.Contains("..")) name = given;
+                else Reader.Report("name", n, $"'{YamlReader.Shorten(given)}' is not allowed: letters, digits, spaces and - _ . + ( ), starting with a letter or digit");
+            }
             var declared = Parameters(Reader.NamedMapping(Reader.Required(map, "", "parameters", "the joint parameter vector"), "parameters"));
             var sets = new List<Pending>();
             foreach (var (set, _, value) in YamlReader.Entries(Reader.NamedMapping(Reader.Required(map, "", "data", "the data sets"), "data")))
@@ -361,7 +368,7 @@ public static class JointFitLoader
             foreach (var (_, t, p) in targets)
                 if (p.Text.StartsWith("readout.", StringComparison.Ordinal) && raw.Shape == DataShape.Occupancies)
                     Reader.Report($"{path}.set.{t.Key}", t.Node, $"{p.Text} does not enter occupancy data (occupancies are already noise-subtracted)");
-            (FitCalibration, FitData, string, YamlNode)? calibration = null;
+            (FitCalibration, FitData, string)? calibration = null;
             var data = raw;
             if (YamlReader.Get(map, "calibration") is { } calNode && Reader.String(calNode, path + ".calibration") is { } calFile)
             {
@@ -376,7 +383,7 @@ public static class JointFitLoader
                     else
                     {
                         data = FitCalibration.ToQuanta(raw, c.Gain);
-                        calibration = (c, raw, noise, calNode);
+                        calibration = (c, raw, noise);
                     }
                 }
                 catch (InputException e)
