@@ -66,6 +66,12 @@ public static class JointFitCommand
             table.AddRow(Markup.Escape(e.Parameter.Name), G(q.Value), G(q.StandardError, "G2"), Markup.Escape($"{G(q.Low)} – {(q.HighReached ? G(q.High) : "∞")}"),
                 Markup.Escape(e.Parameter.Unit), Markup.Escape(string.Join(", ", e.Parameter.DataSets) + (e.Parameter.Shared ? " (shared)" : "")));
         }
+        foreach (var d in r.Derived)
+        {
+            var q = d.Estimate;
+            table.AddRow(Markup.Escape($"bath temperature of {d.Mode} (from {d.Parameter})"), G(q.Value * 1e3), G(q.StandardError * 1e3, "G2"),
+                Markup.Escape($"{G(q.Low * 1e3)} – {(q.HighReached ? G(q.High * 1e3) : "∞")}"), "mK", "");
+        }
         return table;
     }
 

@@ -71,6 +71,14 @@ public sealed class JointFitReport : IReport<JointFitResult>
             o["prior"] = r.Problem.Priors.FirstOrDefault(p => p.Index == r.Parameters.IndexOf(e)).Prior is { } q ? Prior(q) : null;
             return KeyValuePair.Create<string, JsonNode?>(e.Parameter.Name, o);
         }));
+        root["derived"] = new JsonArray([.. r.Derived.Select(d =>
+        {
+            var o = FitReport.EstimateJson(d.Estimate, "K");
+            o["name"] = d.Name;
+            o["parameter"] = d.Parameter;
+            o["mode"] = d.Mode;
+            return (JsonNode)o;
+        })]);
         int n = r.Parameters.Length;
         root["correlation"] = new JsonObject
         {
@@ -135,6 +143,11 @@ public sealed class JointFitReport : IReport<JointFitResult>
             string high = q.HighReached ? G(q.High) : "∞";
             md.AppendLine($"| {e.Parameter.Name} | {G(q.Value)} | {G(q.StandardError, "G2")} | {G(q.Low)} – {high} | {e.Parameter.Unit} | {q.Method} | " +
                 $"{string.Join(", ", e.Parameter.DataSets)}{(e.Parameter.Shared ? " (shared)" : "")} |");
+        }
+        foreach (var d in r.Derived)
+        {
+            var q = d.Estimate;
+            md.AppendLine($"| bath temperature of {d.Mode} (from {d.Parameter}) | {G(q.Value)} | {G(q.StandardError, "G2")} | {G(q.Low)} – {(q.HighReached ? G(q.High) : "∞")} | K | {q.Method} | |");
         }
         md.AppendLine().AppendLine("| data set | kind | points | deviance | degrees of freedom | p-value |");
         md.AppendLine("|---|---|---:|---:|---:|---:|");

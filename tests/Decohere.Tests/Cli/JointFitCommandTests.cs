@@ -45,6 +45,13 @@ public sealed class JointFitCommandTests : IDisposable
         Assert.Equal(json["parameters"]!["gamma"]!["value"]!.GetValue<double>(),
             json["data_sets"]!["heating"]!["scenario_values"]!["modes.drum.linewidth"]!["value"]!.GetValue<double>());
         Assert.Contains("| gamma |", File.ReadAllText(Path.Combine(output, "joint-fit.md")));
+        // The bath temperature follows from the fitted occupancy by Bose–Einstein, T = hf/(k_B ln(1 + 1/n)), with the exact SI
+        // h and k_B (CODATA 2018) and the drum's 5 MHz of device.yaml.
+        var derived = json["derived"]!.AsArray().Single()!;
+        double occupancy = json["parameters"]!["n_bath"]!["value"]!.GetValue<double>();
+        double kelvin = 6.62607015e-34 * 5e6 / (1.380649e-23 * Math.Log(1 + 1 / occupancy));
+        Assert.Equal("n_bath", derived["parameter"]!.GetValue<string>());
+        Assert.Equal(kelvin, derived["value"]!.GetValue<double>(), kelvin * 1e-12);
     }
 
     [Fact]

@@ -41,6 +41,13 @@ public sealed record JointFitSettings
 /// <summary>A fitted joint parameter.</summary>
 public sealed record JointEstimate(JointParameter Parameter, FittedQuantity Estimate);
 
+/// <summary>A quantity that follows from one joint parameter (a bath temperature from a bath occupancy), with its interval mapped from the parameter's.</summary>
+/// <param name="Name">The quantity (<c>bath_temperature_k</c>).</param>
+/// <param name="Parameter">The joint parameter it follows from.</param>
+/// <param name="Mode">The mode it describes.</param>
+/// <param name="Estimate">Value, standard error (delta method) and interval.</param>
+public sealed record JointDerived(string Name, string Parameter, string Mode, FittedQuantity Estimate);
+
 /// <summary>One data set at the joint optimum: its points with model, band and residuals, its own deviance and goodness of fit.</summary>
 /// <param name="Name">The data set's name.</param>
 /// <param name="Kind">delays, ringdown or cooling.</param>
@@ -66,7 +73,7 @@ public sealed record JointDataSetFit(string Name, string Kind, string Source, st
 
 /// <summary>A joint fit: every parameter with its interval, the correlations, each data set's fit and the total.</summary>
 public sealed record JointFitResult(
-    JointFitProblem Problem, JointFitSettings Settings, ImmutableArray<JointEstimate> Parameters, double[,] Correlation,
+    JointFitProblem Problem, JointFitSettings Settings, ImmutableArray<JointEstimate> Parameters, ImmutableArray<JointDerived> Derived, double[,] Correlation,
     ImmutableArray<JointDataSetFit> DataSets, GoodnessOfFit Goodness, Provenance Provenance, ImmutableArray<string> Warnings, WorkStatistics Work) : IAnalysisResult
 {
     /// <inheritdoc/>
@@ -116,8 +123,38 @@ public static class JointFitAnalysis
         double pValue = absolute && dof > 0 ? 1 - ChiSquared.CDF(dof, ml.Minimum) : double.NaN;
         var goodness = new GoodnessOfFit(ml.Minimum, dof, dof > 0 ? ml.Minimum / dof : double.NaN, pValue);
         if (dof <= 0) warnings.Add($"{sets.Sum(s => s.Statistics)} statistics for {n} parameters: no degrees of freedom are left to test the fit");
-        return new JointFitResult(problem, settings, [.. problem.Parameters.Select((p, k) => new JointEstimate(p, estimates[k]))], correlation, sets, goodness,
+        return new JointFitResult(problem, settings, [.. problem.Parameters.Select((p, k) => new JointEstimate(p, estimates[k]))], Temperatures(problem, estimates),
+            correlation, sets, goodness,
             problem.Provenance, [.. warnings.Distinct()], WorkStatistics.Since(clock, ml.Evaluations));
+    }
+
+    /// <summary>
+    /// The bath temperature of each mechanical mode whose bath occupancy is a joint parameter: T = h f / (k_B ln(1 + 1/n)) (Bose–Einstein,
+    /// CODATA 2018 constants) is increasing in n, so the occupancy's profile interval maps end to end (profile intervals are
+    /// invariant under monotone reparametrisation); the standard error by the derivative.
+    /// </summary>
+    private static ImmutableArray<JointDerived> Temperatures(JointFitProblem problem, FittedQuantity[] estimates)
+    {
+        var paths = problem.Terms.SelectMany(t => t switch
+        {
+            DelayTerm d => d.Paths.Select(p => (d.Scenario, p.Path, p.Index)),
+            CoolingTerm c => c.Paths.Select(p => (c.Scenario, p.Path, p.Index)),
+            _ => [],
+        });
+        var list = new List<JointDerived>();
+        foreach (var (scenario, path, index) in paths)
+        {
+            var parts = path.Text.Split('.');
+            if (parts is not ["modes", var m, "bath", "occupancy"] || scenario.ModeNamed(m) is not { Kind: ModeKind.Mechanical } mode) continue;
+            if (list.Any(d => d.Parameter == problem.Parameters[index].Name && d.Mode == m)) continue;
+            var e = estimates[index];
+            double T(double n) => double.IsPositiveInfinity(n) ? double.PositiveInfinity : Physics.Temperature(mode.FrequencyHz, n);
+            double h = 1e-6 * Math.Max(e.Value, 1e-9);
+            double slope = (T(e.Value + h) - T(Math.Max(e.Value - h, 0))) / (e.Value + h - Math.Max(e.Value - h, 0));
+            list.Add(new JointDerived("bath_temperature_k", problem.Parameters[index].Name, m,
+                e with { Name = "bath_temperature_k", Value = T(e.Value), StandardError = slope * e.StandardError, Low = T(e.Low), High = T(e.High) }));
+        }
+        return [.. list];
     }
 
     private static MaximumLikelihoodResult Fit(IReadOnlyList<IJointTerm> terms, JointFitProblem problem, FitParameter[] parameters, JointFitSettings settings,
