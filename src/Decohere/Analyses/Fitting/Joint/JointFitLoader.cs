@@ -198,7 +198,7 @@ public static class JointFitLoader
             }
             var domain = targets.Any(t => t.Domain == ParameterDomain.Positive) ? ParameterDomain.Positive
                 : targets.All(t => t.Domain == ParameterDomain.Real) ? ParameterDomain.Real : ParameterDomain.NonNegative;
-            double? start = targets.Select(t => t.DefaultStart).FirstOrDefault(v => v is not null);
+            double? start = null;
             if (declared?.Start is { } startNode)
             {
                 if (Reader.String(startNode, path + ".start") is not { } startText || Value(startText, startNode, path + ".start") is not { } given) return null;
@@ -232,7 +232,8 @@ public static class JointFitLoader
             // A bounded prior needs a start inside its bounds, or the optimiser starts on an infinite plateau.
             if (prior is { IsGaussian: false } && (start is null || prior.Minus2LogPrior(start.Value) > 0))
                 start = prior.Low > 0 ? Math.Sqrt(prior.Low!.Value * prior.High!.Value) : 0.5 * (prior.Low!.Value + prior.High!.Value);
-            start ??= prior?.Mean;
+            // Without a start: a Gaussian prior's mean, else the value of the first setting it goes into.
+            start ??= prior?.Mean ?? targets.Select(t => t.DefaultStart).FirstOrDefault(v => v is not null);
             if (start is not { } x0 || !(domain == ParameterDomain.Real || x0 > 0))
                 start = dimension switch { Dimension.Temperature => 0.01, Dimension.Frequency => 1, Dimension.Time => 1e-3, _ => 0.1 };
             return new JointParameter(name, dimension, start!.Value, domain, prior,

@@ -10,7 +10,7 @@ namespace Decohere.Analyses.Fitting.Joint;
 /// <param name="Quantity">What was measured (<c>var_i</c>, <c>occupancy</c>, <c>energy</c>, …).</param>
 /// <param name="X">The abscissa (delay or time in s, cooperativity).</param>
 /// <param name="Observed">The measured value.</param>
-/// <param name="Error">Its standard error where the data state one (χ² for a variance: σ√(2/(N − 1)) at the model); null otherwise.</param>
+/// <param name="Error">Its standard error where the data state one (occupancies, amplitudes with σ); null otherwise.</param>
 public readonly record struct JointPoint(string Quantity, double X, double Observed, double? Error);
 
 /// <summary>
