@@ -213,7 +213,9 @@ public static class RingdownAnalysis
     public static double SaturatedMinus2LogLikelihood(RingdownData data) =>
         data.Kind == RingdownKind.Energy ? 2 * data.Values.Sum(v => Math.Log(Math.Max(v, 1e-300)) + 1) : 0;
 
-    private static void Check(RingdownData data)
+    /// <summary>Checks that the data can be fitted: at least 5 points, increasing times, energies ≥ 0, σ &gt; 0.</summary>
+    /// <exception cref="InputException">The data cannot be fitted; the message names the file.</exception>
+    public static void Check(RingdownData data)
     {
         int n = data.TimesS.Length;
         if (n < 5) throw new InputException($"data {data.Source}: {n} points; a ring-down fit needs at least 5");

@@ -112,4 +112,21 @@ public sealed class JointFitLoaderTests : IDisposable
         Assert.Contains(e.Problems, p => p.Path == "name" && p.Message.Contains("starting with a letter or digit"));
         Assert.All(e.Problems, p => Assert.True(p.Line > 0 && p.Column > 0, p.ToString()));
     }
+
+    [Fact]
+    public async Task DataTooShortToFitAreRefusedAtTheirFile()
+    {
+        File.WriteAllText(Path.Combine(_dir, "short.csv"), "time_s,energy\n0,10\n0.001,8\n0.002,7\n");
+        File.WriteAllText(Path.Combine(_dir, "empty.csv"), "cooperativity,occupancy\n");
+        const string text = """
+            parameters: { gamma: { start: 8 Hz } }
+            data:
+              ringdown: { kind: ringdown, file: short.csv, set: { linewidth: gamma } }
+              cooling: { kind: cooling, file: empty.csv, scenario: device.yaml, set: { modes.drum.linewidth: gamma } }
+            """;
+        var e = await Assert.ThrowsAsync<ScenarioException>(() => Load(text));
+        Assert.Equal(At(text, "short.csv", "short.csv"), (e.Problems.Single(p => p.Path == "data.ringdown.file") is var r ? (r.Line, r.Column) : default));
+        Assert.Contains("at least 5", e.Problems.Single(p => p.Path == "data.ringdown.file").Message);
+        Assert.Contains(e.Problems, p => p.Path == "data.cooling.file");
+    }
 }

@@ -411,6 +411,7 @@ public static class JointFitLoader
             foreach (var m in mapped.Where(m => !RingdownTerm.Keys.Contains(m.Key)))
                 Reader.Report($"{path}.set.{m.Key}", m.KeyNode, $"unknown key '{m.Key}'{NameSuggestion.Suggest(m.Key, [.. RingdownTerm.Keys])}; a ring-down sets: {string.Join(", ", RingdownTerm.Keys)}");
             var data = await LabDataReader.ReadRingdownAsync(file, scale, sigma, cancel);
+            RingdownAnalysis.Check(data);
             var starts = RingdownAnalysis.Parameters(data);
             // The ring-down's own order is (initial, γ, floor); its keys are (linewidth Hz, initial, floor).
             (Dimension, ParameterDomain, double)[] own =
@@ -448,6 +449,7 @@ public static class JointFitLoader
             }
             var targets = ScenarioTargets(name, path, scenario, mapped.Where(m => !CoolingTerm.HeatingKeys.Contains(m.Key)));
             var points = await LabDataReader.ReadCoolingAsync(file, cancel);
+            if (points.Count == 0) throw new InputException($"data file {Path.GetFileName(file)}: no rows; a cooling curve needs at least one (cooperativity, occupancy) point");
             double[] start = CoolingAnalysis.HeatingStart(scenario, stage, toneIndex, new CoolingSettings(), points);
             var uses = targets.Select(t => (t.Parameter, t.Target)).ToList();
             var heating = new string[2];
