@@ -9,7 +9,7 @@ foreach (var command in new[]
 {
     RunCommand.Create(console), CheckCommand.Create(console), InitCommand.Create(console),
     LifetimeCommand.Create(console), ToleranceCommand.Create(console),
-    FitCommand.Create(console), FitNoiseCommand.Create(console),
+    FitCommand.Create(console), FitNoiseCommand.Create(console), JointFitCommand.Create(console),
     SweepCommand.Create(console), MergeCommand.Create(console),
     SpectrumCommand.Create(console), CoolingCommand.Create(console), RingdownCommand.Create(console),
     ModesCommand.Create(console), ReconstructCommand.Create(console),

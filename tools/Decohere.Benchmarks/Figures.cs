@@ -15,7 +15,7 @@ namespace Decohere.Benchmarks;
 /// <summary>
 /// The figures a user waits for, each timed directly (one warm-up, then the median and best of several repetitions)
 /// and printed as one line: <c>dotnet run -c Release --project tools/Decohere.Benchmarks -- figures [NAME…]</c> with
-/// NAME among run, covariance, fit, sweep, shots (all by default). tools/reference/*.py do the same work in numpy/scipy.
+/// NAME among run, covariance, fit, sweep, shots, joint (all by default). tools/reference/*.py do the same work in numpy/scipy.
 /// </summary>
 public static class Figures
 {
@@ -26,6 +26,7 @@ public static class Figures
         ["fit"] = Fit,
         ["sweep"] = SweepGrid,
         ["shots"] = Shots,
+        ["joint"] = JointFit,
     };
 
     /// <summary>Runs the named figures (all when none are named) with <paramref name="args"/> such as <c>--repeat 5</c>.</summary>
@@ -135,6 +136,20 @@ public static class Figures
             Print($"  same columns, {codec}", c, $"{rows / c.Median / 1e6:F2} M rows/s ({rows / c.Cpu / 1e6:F2} per CPU s), {new FileInfo(path).Length / 1e6:F2} MB");
         }
         File.Delete(path);
+    }
+
+    /// <summary>The joint fit of scenarios/joint/joint.yaml (heating curve, ring-down, cooling curve; 7 parameters), with and without profiles.</summary>
+    private static void JointFit(int repeat)
+    {
+        string file = Path.Combine(Files.Root, "scenarios", "joint", "joint.yaml");
+        var problem = Decohere.Analyses.Fitting.Joint.JointFitLoader.LoadAsync(file).GetAwaiter().GetResult();
+        long evaluations = 0;
+        foreach (bool profiles in new[] { true, false })
+        {
+            var t = Time(repeat, () => evaluations = Decohere.Analyses.Fitting.Joint.JointFitAnalysis.Solve(problem,
+                new Decohere.Analyses.Fitting.Joint.JointFitSettings { Profiles = profiles }).Work.Evaluations);
+            Print($"joint-fit: example, {problem.Parameters.Length} parameters{(profiles ? ", profiles" : "")}", t, $"{evaluations:N0} likelihood evaluations");
+        }
     }
 
     /// <summary>The fit of <see cref="FitBenchmark"/>: 3 parameters, 40 delays × 10,000 shots read from CSV, with profiles.</summary>

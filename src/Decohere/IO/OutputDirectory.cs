@@ -24,6 +24,9 @@ public sealed record OutputSet(string Key, IReadOnlyList<string> Files)
     /// <summary><c>fit</c>.</summary>
     public static OutputSet Fit { get; } = new("fit", ["fit.json", "fit.parquet", "fit.png", "fit.svg", "fit.md", "fit.tex", "fit.csv"]);
 
+    /// <summary><c>joint-fit</c>.</summary>
+    public static OutputSet JointFit { get; } = new("joint-fit", ["joint-fit.json", "joint-fit.parquet", "joint-fit.png", "joint-fit.svg", "joint-fit.md", "joint-fit.csv"]);
+
     /// <summary><c>fit-noise</c>.</summary>
     public static OutputSet FitNoise { get; } = new("fit-noise", ["fit-noise.json", "fit-noise.png", "fit-noise.svg"]);
 

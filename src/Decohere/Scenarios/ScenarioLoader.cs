@@ -94,7 +94,7 @@ public static class ScenarioLoader
 
     // YamlStream builds its tree recursively, so 50 000 nested brackets overflow the stack, which no handler can catch.
     // The event parser keeps its own stack, so a first pass with it measures the depth safely before the tree is built.
-    private static ScenarioProblem? TooDeep(string text)
+    internal static ScenarioProblem? TooDeep(string text)
     {
         var parser = new Parser(new StringReader(text));
         int depth = 0;

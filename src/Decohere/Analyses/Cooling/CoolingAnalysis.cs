@@ -96,13 +96,15 @@ public static class CoolingAnalysis
         HeatingFit? fit = null;
         if (data is { Count: > 0 })
         {
-            fit = FitHeating(scenario, stageIndex, toneIndex, settings, data, law, warnings);
+            fit = FitHeating(scenario, stageIndex, toneIndex, settings, data, warnings);
         }
         return new CoolingResult(scenario, settings, stage.Name, toneIndex, tone.Mechanical, tone.Cavity, rows, minimum, edge,
             [.. data ?? []], fit, Provenance.For(scenario), [.. warnings], WorkStatistics.Since(start, rows.Length));
     }
 
-    private static (int Stage, int Tone) Locate(Scenario scenario, CoolingSettings settings)
+    /// <summary>The stage and tone index of the cooling tone the settings name (default: the first red tone of the first stage with one).</summary>
+    /// <exception cref="InputException">The stage is unknown or has no red tone there.</exception>
+    public static (int Stage, int Tone) Locate(Scenario scenario, CoolingSettings settings)
     {
         int stage = settings.Stage is { } name
             ? scenario.Stages.Select((s, i) => (s, i)).FirstOrDefault(p => p.s.Name == name, (null!, -1)).Item2
@@ -206,15 +208,12 @@ public static class CoolingAnalysis
     /// Gaussian with them (−2 ln L = χ²); without, least squares with σ profiled out. Intervals are 95% profile likelihood.
     /// </summary>
     private static HeatingFit FitHeating(Scenario scenario, int stage, int tone, CoolingSettings settings, IReadOnlyList<CoolingPoint> data,
-        HeatingLaw? law, List<string> warnings)
+        List<string> warnings)
     {
         bool errors = data.All(p => p.Error is > 0);
         if (!errors && data.Any(p => p.Error is not null)) warnings.Add("data: some rows have no occupancy_err; all errors ignored (least squares)");
-        // A trial law that heats the cavity past double range is an impossible point: +∞ to the optimiser.
-        double Model(double[] b, double c) => new HeatingLaw(b[0], b[1]) is var trial && trial.ExcessAt(c) is var excess && double.IsFinite(excess) && excess < 1e15
-            ? Evaluate(scenario, stage, tone, c, trial, settings, shares: false).Occupancy
-            : double.PositiveInfinity;
-        var start = law is { Table.IsDefaultOrEmpty: true, Coefficient: > 0 } ? new[] { law.Coefficient, law.Exponent } : StartFromData(scenario, stage, tone, settings, data);
+        double Model(double[] b, double c) => HeatedOccupancy(scenario, stage, tone, c, b[0], b[1], settings);
+        var start = HeatingStart(scenario, stage, tone, settings, data);
         FitParameter[] parameters = [new("coefficient", start[0], ParameterDomain.Positive), new("exponent", start[1], ParameterDomain.Positive)];
         var ml = new MaximumLikelihoodSettings { Parallel = false };
         double[] x = [.. data.Select(p => p.Cooperativity)], y = [.. data.Select(p => p.Occupancy)];
@@ -238,6 +237,22 @@ public static class CoolingAnalysis
         return new HeatingFit(fit.Estimates[0], se[0], fit.Estimates[1], se[1],
             fit.Intervals[0]?.Low, fit.Intervals[0]?.High, fit.Intervals[1]?.Low, fit.Intervals[1]?.High,
             chi2, data.Count - 2, errors, fitted);
+    }
+
+    /// <summary>
+    /// The steady occupancy at cooperativity C when the tone's cavity is heated by the law a·C^b: the model the heating fit
+    /// fits. A trial law that heats the cavity past double range is an impossible point, +∞ to an optimiser.
+    /// </summary>
+    public static double HeatedOccupancy(Scenario scenario, int stage, int tone, double cooperativity, double coefficient, double exponent, CoolingSettings settings) =>
+        new HeatingLaw(coefficient, exponent) is var trial && trial.ExcessAt(cooperativity) is var excess && double.IsFinite(excess) && excess < 1e15
+            ? Evaluate(scenario, stage, tone, cooperativity, trial, settings, shares: false).Occupancy
+            : double.PositiveInfinity;
+
+    /// <summary>A start for the heating law (a, b): the scenario's own power law when it has one, else <see cref="StartFromData"/>.</summary>
+    public static double[] HeatingStart(Scenario scenario, int stage, int tone, CoolingSettings settings, IReadOnlyList<CoolingPoint> data)
+    {
+        var law = scenario.BathOf(scenario.ModeNamed(scenario.Stages[stage].Tones[tone].Cavity), scenario.Stages[stage]).Heating;
+        return law is { Table.IsDefaultOrEmpty: true, Coefficient: > 0 } ? [law.Coefficient, law.Exponent] : StartFromData(scenario, stage, tone, settings, data);
     }
 
     // A start for (a, b): b = 1, a from the point that rises most above the curve without heating.

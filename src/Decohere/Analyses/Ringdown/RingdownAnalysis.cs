@@ -83,44 +83,12 @@ public static class RingdownAnalysis
         var y = data.Values;
         int n = t.Length;
         bool energy = data.Kind == RingdownKind.Energy;
-        // Energy-like values (squares of amplitudes) give the start: floor from the tail, γ from the 1/e time.
-        double[] e = [.. y.Select(v => energy ? v : v * v)];
-        double floor = Math.Max(e.Skip(n - Math.Max(n / 10, 1)).Average(), 1e-9 * e.Max());
-        double first = Math.Max(e.Take(Math.Min(3, n)).Average() - floor, 1e-6 * e.Max());
-        double t1e = t.Zip(e).FirstOrDefault(p => p.Second - floor < first / Math.E, (t[^1], 0)).Item1 - t[0];
-        double gamma0 = 1 / Math.Max(t1e, (t[^1] - t[0]) / n);
-        double Mean(double[] b, double time) => b[0] * Math.Exp(-b[1] * (time - t[0])) + b[2];
-        FitParameter[] parameters =
-        [
-            new(energy ? "initial energy" : "initial amplitude squared", first, ParameterDomain.Positive),
-            new("decay rate", gamma0, ParameterDomain.Positive),
-            new("floor", floor, ParameterDomain.NonNegative),
-        ];
-        Func<double[], double> objective = data switch
-        {
-            { Kind: RingdownKind.Energy } => b =>
-            {
-                double s = 0;
-                for (int i = 0; i < n; i++) { double m = Mean(b, t[i]); s += Math.Log(m) + y[i] / m; }
-                return 2 * s;
-            },
-            { Sigmas: { } sigma } => b =>
-            {
-                double s = 0;
-                for (int i = 0; i < n; i++) { double r = (y[i] - Math.Sqrt(Mean(b, t[i]))) / sigma[i]; s += r * r; }
-                return s;
-            },
-            _ => b =>
-            {
-                double s = 0;
-                for (int i = 0; i < n; i++) { double r = y[i] - Math.Sqrt(Mean(b, t[i])); s += r * r; }
-                return n * Math.Log(s / n);
-            },
-        };
+        var parameters = Parameters(data);
+        var objective = Minus2LogLikelihood(data);
         var fit = MaximumLikelihood.Fit(objective, parameters, new MaximumLikelihoodSettings { Confidence = settings.Confidence, Parallel = settings.Parallel });
         var warnings = new List<string>(fit.Warnings);
         var b = fit.Estimates;
-        var model = t.Select(time => energy ? Mean(b, time) : Math.Sqrt(Mean(b, time))).ToImmutableArray();
+        var model = Model(data, b).ToImmutableArray();
         double? sigmaHat = null;
         double deviance;
         ImmutableArray<double> residuals;
@@ -177,7 +145,78 @@ public static class RingdownAnalysis
             Provenance.Standalone(data.Source), [.. warnings], WorkStatistics.Since(start, fit.Evaluations));
     }
 
-    private static void Check(RingdownData data)
+    /// <summary>
+    /// The parameters of the likelihood, in order: initial energy E₀ (amplitudes: A₀²), energy decay rate γ (s⁻¹) and floor
+    /// E_th (amplitudes: A_th²), each with a start from the data: the floor from the tail, γ from the 1/e time.
+    /// </summary>
+    public static FitParameter[] Parameters(RingdownData data)
+    {
+        var t = data.TimesS;
+        int n = t.Length;
+        bool energy = data.Kind == RingdownKind.Energy;
+        double[] e = [.. data.Values.Select(v => energy ? v : v * v)];
+        double floor = Math.Max(e.Skip(n - Math.Max(n / 10, 1)).Average(), 1e-9 * e.Max());
+        double first = Math.Max(e.Take(Math.Min(3, n)).Average() - floor, 1e-6 * e.Max());
+        double t1e = t.Zip(e).FirstOrDefault(p => p.Second - floor < first / Math.E, (t[^1], 0)).Item1 - t[0];
+        double gamma0 = 1 / Math.Max(t1e, (t[^1] - t[0]) / n);
+        return
+        [
+            new(energy ? "initial energy" : "initial amplitude squared", first, ParameterDomain.Positive),
+            new("decay rate", gamma0, ParameterDomain.Positive),
+            new("floor", floor, ParameterDomain.NonNegative),
+        ];
+    }
+
+    /// <summary>The mean energy E₀e^{−γ(t − t₀)} + E_th at time t, for the parameters b of <see cref="Parameters"/> (t₀ the first time).</summary>
+    private static double Mean(RingdownData data, IReadOnlyList<double> b, double time) => b[0] * Math.Exp(-b[1] * (time - data.TimesS[0])) + b[2];
+
+    /// <summary>The model at each time of the data: mean energy, or for amplitudes its square root.</summary>
+    public static double[] Model(RingdownData data, IReadOnlyList<double> b) =>
+        [.. data.TimesS.Select(time => data.Kind == RingdownKind.Energy ? Mean(data, b, time) : Math.Sqrt(Mean(data, b, time)))];
+
+    /// <summary>
+    /// −2 ln L of the parameters of <see cref="Parameters"/> (up to a constant): exponential per energy point, χ² with stated σ,
+    /// or N ln(RSS/N) with a common unknown σ profiled out.
+    /// </summary>
+    public static Func<double[], double> Minus2LogLikelihood(RingdownData data)
+    {
+        Check(data);
+        var t = data.TimesS;
+        var y = data.Values;
+        int n = t.Length;
+        return data switch
+        {
+            { Kind: RingdownKind.Energy } => b =>
+            {
+                double s = 0;
+                for (int i = 0; i < n; i++) { double m = Mean(data, b, t[i]); s += Math.Log(m) + y[i] / m; }
+                return 2 * s;
+            },
+            { Sigmas: { } sigma } => b =>
+            {
+                double s = 0;
+                for (int i = 0; i < n; i++) { double r = (y[i] - Math.Sqrt(Mean(data, b, t[i]))) / sigma[i]; s += r * r; }
+                return s;
+            },
+            _ => b =>
+            {
+                double s = 0;
+                for (int i = 0; i < n; i++) { double r = y[i] - Math.Sqrt(Mean(data, b, t[i])); s += r * r; }
+                return n * Math.Log(s / n);
+            },
+        };
+    }
+
+    /// <summary>
+    /// What <see cref="Minus2LogLikelihood"/> of energies is at the saturated model (every mean equal to its point), 2Σ[ln E + 1]:
+    /// subtracted, it leaves the deviance 2Σ[E/m − 1 − ln(E/m)]. Zero for amplitudes (with stated σ the χ² is already a deviance).
+    /// </summary>
+    public static double SaturatedMinus2LogLikelihood(RingdownData data) =>
+        data.Kind == RingdownKind.Energy ? 2 * data.Values.Sum(v => Math.Log(Math.Max(v, 1e-300)) + 1) : 0;
+
+    /// <summary>Checks that the data can be fitted: at least 5 points, increasing times, energies ≥ 0, σ &gt; 0.</summary>
+    /// <exception cref="InputException">The data cannot be fitted; the message names the file.</exception>
+    public static void Check(RingdownData data)
     {
         int n = data.TimesS.Length;
         if (n < 5) throw new InputException($"data {data.Source}: {n} points; a ring-down fit needs at least 5");
