@@ -25,6 +25,8 @@ public sealed class Sweep
     /// <summary>The metrics, in column order.</summary>
     public ImmutableArray<Metric> Metrics { get; }
 
+    private readonly Lazy<SweepTemplate> _shared;
+
     /// <summary>The sweep's description, as stored in the files' metadata.</summary>
     public SweepDescription Description { get; }
 
@@ -35,6 +37,7 @@ public sealed class Sweep
         Template = template;
         Grid = grid;
         Metrics = metrics;
+        _shared = new(() => new SweepTemplate(template));
         Description = new SweepDescription(template.SourceHash, template.Seed, grid.Zip, grid.PointCount,
             [.. grid.Axes.Select(a => new SweepDescription.Axis(a.Path.Text, a.Path.ColumnName, a.Text, a.Logarithmic, a.Values))],
             [.. metrics.Select(m => new SweepDescription.MetricColumn(m.Spec, m.Column))]);
@@ -73,7 +76,7 @@ public sealed class Sweep
         SweepPoint? p = null;
         try
         {
-            p = new SweepPoint(point, seed, Grid.Apply(Template, values));
+            p = new SweepPoint(point, seed, Grid.Apply(Template, values), _shared.Value);
         }
         catch (Exception e) when (e is not OperationCanceledException and not OutOfMemoryException)
         {
