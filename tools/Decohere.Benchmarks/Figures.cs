@@ -164,12 +164,15 @@ public static class Figures
         var sweep = Sweep.Parse(ScenarioLoader.Demo(),
             ["stages.squeeze.tones[1].coupling=2kHz:24kHz:20", "modes.drum.bath.temperature=5mK:100mK:20:log"], false, "steady_squeezing_db:squeeze");
         string path = Temp("sweep.parquet");
-        var table = Time(repeat, () =>
+        void PointsAndTable(int threads)
         {
-            var result = SweepAnalysis.SolveAsync(sweep, new SweepSettings()).GetAwaiter().GetResult();
+            var result = SweepAnalysis.SolveAsync(sweep, new SweepSettings { Threads = threads }).GetAwaiter().GetResult();
             SweepTable.WriteAsync(path, result.Description, result.Rows, result.Metadata()).GetAwaiter().GetResult();
-        }, SweepWarmups);
+        }
+        var table = Time(repeat, () => PointsAndTable(-1), SweepWarmups);
         Print("  the points and sweep.parquet alone", table, $"{400 / table.Median:F0} points/s");
+        var serial = Time(repeat, () => PointsAndTable(1), SweepWarmups);
+        Print("  the same on one thread", serial, $"{400 / serial.Median:F0} points/s");
         File.Delete(path);
         bench.Cleanup();
     }
