@@ -66,10 +66,10 @@ public static class ModelBuilder
     }
 
     /// <summary>The drift and diffusion of a stage.</summary>
-    public static LinearModel Build(Scenario scenario, Stage stage) => System(scenario, stage).ToLinearModel();
+    public static LinearModel Build(Scenario scenario, Stage stage) => BuildSystem(scenario, stage).ToLinearModel();
 
     /// <summary>The Hamiltonian and jump operators of a stage, before the map to drift and diffusion.</summary>
-    internal static QuadraticSystem System(Scenario scenario, Stage stage)
+    internal static QuadraticSystem BuildSystem(Scenario scenario, Stage stage)
     {
         var modes = StateModes(scenario);
         var index = Indices(modes);

@@ -24,7 +24,7 @@ public sealed class StageModels
         _template = template;
         var modes = ModelBuilder.StateModes(template);
         _index = ModelBuilder.Indices(modes);
-        _systems = [.. template.Stages.Select(s => ModelBuilder.System(template, s))];
+        _systems = [.. template.Stages.Select(s => ModelBuilder.BuildSystem(template, s))];
         _models = [.. _systems.Select(s => s.ToLinearModel())];
         _occupancies = [.. template.Stages.Select(s => modes.Select(m => ModelBuilder.BathOccupancy(template, m, s)).ToArray())];
     }
@@ -76,9 +76,7 @@ public sealed class StageModels
         for (int j = 0; j < t.Modes.Length; j++)
         {
             Mode now = copy.Modes[j], then = t.Modes[j];
-            if (now.Name != then.Name || now.Kind != then.Kind
-                || !Same(now.LinewidthHz, then.LinewidthHz))
-                return false;
+            if (now.Name != then.Name || now.Kind != then.Kind || !Same(now.LinewidthHz, then.LinewidthHz)) return false;
         }
         return true;
     }

@@ -13,6 +13,9 @@ namespace Decohere.Analyses.Sweeps;
 /// </summary>
 public sealed class Sweep
 {
+    // The template's stage models, built once on first use and shared by every point.
+    private readonly Lazy<SweepTemplate> _shared;
+
     /// <summary>Metadata key of the sweep's description (JSON) in every sweep table, part and chunk file.</summary>
     public const string MetadataKey = "decohere.sweep";
 
@@ -24,8 +27,6 @@ public sealed class Sweep
 
     /// <summary>The metrics, in column order.</summary>
     public ImmutableArray<Metric> Metrics { get; }
-
-    private readonly Lazy<SweepTemplate> _shared;
 
     /// <summary>The sweep's description, as stored in the files' metadata.</summary>
     public SweepDescription Description { get; }
