@@ -96,23 +96,15 @@ public static class ModelBuilder
     /// </summary>
     internal static void AddBilinearTerms(Scenario scenario, Stage stage, QuadraticSystem system, Dictionary<string, int> index, Func<int, int, bool> include)
     {
-        foreach (var c in scenario.Couplings)
+        // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
+        var terms = scenario.Couplings.Select(c => (c.ModeA, c.ModeB, c.RateHz, BeamSplitter: c.Kind == CouplingKind.BeamSplitter));
+        if (scenario.Model == ModelKind.Full) terms = terms.Concat(stage.Tones.Select(t => (t.Cavity, t.Mechanical, t.CouplingHz, t.Sideband == Sideband.Red)));
+        foreach (var (modeA, modeB, rateHz, beamSplitter) in terms)
         {
-            int a = index[c.ModeA], b = index[c.ModeB];
+            int a = index[modeA], b = index[modeB];
             if (!include(a, b)) continue;
-            double g = Physics.Angular(c.RateHz);
-            if (c.Kind == CouplingKind.BeamSplitter) system.AddBeamSplitter(a, b, g);
-            else system.AddTwoModeSqueezing(a, b, g);
-        }
-        if (scenario.Model != ModelKind.Full) return;
-        foreach (var tone in stage.Tones)
-        {
-            int a = index[tone.Cavity], b = index[tone.Mechanical];
-            if (!include(a, b)) continue;
-            double g = Physics.Angular(tone.CouplingHz);
-            // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
-            if (tone.Sideband == Sideband.Red) system.AddBeamSplitter(a, b, g);
-            else system.AddTwoModeSqueezing(a, b, g);
+            if (beamSplitter) system.AddBeamSplitter(a, b, Physics.Angular(rateHz));
+            else system.AddTwoModeSqueezing(a, b, Physics.Angular(rateHz));
         }
     }
 
