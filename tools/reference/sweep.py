@@ -2,8 +2,8 @@
 (5–100 mK, log-spaced), steady-state squeezing of the squeeze stage: per point the Lyapunov equation
 A V + V Aᵀ + D = 0 (scipy.linalg.solve_continuous_lyapunov, Bartels–Stewart), the drum's smaller principal variance,
 10·log10(½ / var_min); the table written to disk (.npy). The same in batch form: A for each coupling and D for each
-temperature built once, the 400 equations in Kronecker form, (I ⊗ A + A ⊗ I) vec V = −vec D, solved by one
-numpy.linalg.solve over the stack. Run: /usr/bin/python3 tools/reference/sweep.py
+temperature built once, the 400 equations in Kronecker form, (I ⊗ A + A ⊗ I) vec V = −vec D (R. Bellman, Introduction
+to Matrix Analysis (1960), ch. 12), solved by one numpy.linalg.solve over the stack. Run: /usr/bin/python3 tools/reference/sweep.py
 """
 import os
 import tempfile
