@@ -54,11 +54,11 @@ public static class Figures
     /// <summary>Wall seconds (median and best of the repetitions) and the median CPU seconds of the process per call.</summary>
     private readonly record struct Timing(double Median, double Best, double Cpu);
 
-    // One warm-up, then `repeat` timed calls. On a machine shared with other work the CPU time is the steadier figure
-    // (it leaves out waiting for a core, not the threads the call itself runs).
-    private static Timing Time(int repeat, Action body)
+    // `warmups` untimed calls (one by default), then `repeat` timed calls. On a machine shared with other work the CPU time
+    // is the steadier figure (it leaves out waiting for a core, not the threads the call itself runs).
+    private static Timing Time(int repeat, Action body, int warmups = 1)
     {
-        body();
+        for (int k = 0; k < warmups; k++) body();
         var wall = new double[repeat];
         var cpu = new double[repeat];
         using var process = Process.GetCurrentProcess();
@@ -164,25 +164,35 @@ public static class Figures
         bench.Cleanup();
     }
 
-    /// <summary>The sweep of <see cref="SweepSteadySqueezing"/>: 20 × 20 points of steady squeezing, in parallel, with its files.</summary>
+    /// <summary>
+    /// The sweep of <see cref="SweepSteadySqueezing"/>: 20 × 20 points of steady squeezing, in parallel, with its files.
+    /// A call takes milliseconds, so one warm-up would time the JIT's first, unoptimised code (tiered compilation
+    /// optimises a method after 30 calls and a pause); <see cref="SweepWarmups"/> calls time the optimised code the
+    /// natively compiled tool runs from the start.
+    /// </summary>
     private static void SweepGrid(int repeat)
     {
         var bench = new SweepSteadySqueezing();
         bench.Setup();
-        var t = Time(repeat, () => bench.Run().GetAwaiter().GetResult());
+        var t = Time(repeat, () => bench.Run().GetAwaiter().GetResult(), SweepWarmups);
         Print("sweep: 20 x 20 steady squeezing (chunks, table, plot)", t, $"{400 / t.Median:F0} points/s");
         var sweep = Sweep.Parse(ScenarioLoader.Demo(),
             ["stages.squeeze.tones[1].coupling=2kHz:24kHz:20", "modes.drum.bath.temperature=5mK:100mK:20:log"], false, "steady_squeezing_db:squeeze");
         string path = Temp("sweep.parquet");
-        var table = Time(repeat, () =>
+        void PointsAndTable(int threads)
         {
-            var result = SweepAnalysis.SolveAsync(sweep, new SweepSettings()).GetAwaiter().GetResult();
+            var result = SweepAnalysis.SolveAsync(sweep, new SweepSettings { Threads = threads }).GetAwaiter().GetResult();
             SweepTable.WriteAsync(path, result.Description, result.Rows, result.Metadata()).GetAwaiter().GetResult();
-        });
+        }
+        var table = Time(repeat, () => PointsAndTable(-1), SweepWarmups);
         Print("  the points and sweep.parquet alone", table, $"{400 / table.Median:F0} points/s");
+        var serial = Time(repeat, () => PointsAndTable(1), SweepWarmups);
+        Print("  the same on one thread", serial, $"{400 / serial.Median:F0} points/s");
         File.Delete(path);
         bench.Cleanup();
     }
+
+    private const int SweepWarmups = 40;
 
     /// <summary>
     /// Shots written per second: the writers alone on prepared batches of the sampler's size (the hand-made plain writer

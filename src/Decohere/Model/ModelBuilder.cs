@@ -66,10 +66,13 @@ public static class ModelBuilder
     }
 
     /// <summary>The drift and diffusion of a stage.</summary>
-    public static LinearModel Build(Scenario scenario, Stage stage)
+    public static LinearModel Build(Scenario scenario, Stage stage) => BuildSystem(scenario, stage).ToLinearModel();
+
+    /// <summary>The Hamiltonian and jump operators of a stage, before the map to drift and diffusion.</summary>
+    internal static QuadraticSystem BuildSystem(Scenario scenario, Stage stage)
     {
         var modes = StateModes(scenario);
-        var index = modes.Select((m, i) => (m.Name, i)).ToDictionary(p => p.Name, p => p.i);
+        var index = Indices(modes);
         var system = new QuadraticSystem(modes.Select(m => m.Name));
 
         foreach (var mode in modes)
@@ -79,28 +82,30 @@ public static class ModelBuilder
             if (stage.DetuningsHz.TryGetValue(mode.Name, out double delta))
                 system.AddDetuning(j, Physics.Angular(delta));
         }
-        foreach (var c in scenario.Couplings)
-        {
-            double g = Physics.Angular(c.RateHz);
-            if (c.Kind == CouplingKind.BeamSplitter) system.AddBeamSplitter(index[c.ModeA], index[c.ModeB], g);
-            else system.AddTwoModeSqueezing(index[c.ModeA], index[c.ModeB], g);
-        }
+        AddBilinearTerms(scenario, stage, system, index, static (_, _) => true);
+        if (scenario.Model == ModelKind.Effective) AddEliminatedCavities(scenario, stage, system, index);
+        return system;
+    }
 
-        if (scenario.Model == ModelKind.Full)
+    /// <summary>Position of each state mode in the state vector, by name.</summary>
+    internal static Dictionary<string, int> Indices(ImmutableArray<Mode> modes) => modes.Select((m, i) => (m.Name, i)).ToDictionary(p => p.Name, p => p.i);
+
+    /// <summary>
+    /// The static couplings and, in the full model, the tones, in this order: the one place the order of the sums in 𝐇 is
+    /// fixed, so that <see cref="StageModels"/> can redo the entries of one pair of modes bit for bit.
+    /// </summary>
+    internal static void AddBilinearTerms(Scenario scenario, Stage stage, QuadraticSystem system, Dictionary<string, int> index, Func<int, int, bool> include)
+    {
+        // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
+        var terms = scenario.Couplings.Select(c => (c.ModeA, c.ModeB, c.RateHz, BeamSplitter: c.Kind == CouplingKind.BeamSplitter));
+        if (scenario.Model == ModelKind.Full) terms = terms.Concat(stage.Tones.Select(t => (t.Cavity, t.Mechanical, t.CouplingHz, t.Sideband == Sideband.Red)));
+        foreach (var (modeA, modeB, rateHz, beamSplitter) in terms)
         {
-            foreach (var tone in stage.Tones)
-            {
-                double g = Physics.Angular(tone.CouplingHz);
-                // Red sideband: G(a†b + a b†); blue sideband: G(a†b† + a b) (linearised, rotating-wave).
-                if (tone.Sideband == Sideband.Red) system.AddBeamSplitter(index[tone.Cavity], index[tone.Mechanical], g);
-                else system.AddTwoModeSqueezing(index[tone.Cavity], index[tone.Mechanical], g);
-            }
+            int a = index[modeA], b = index[modeB];
+            if (!include(a, b)) continue;
+            if (beamSplitter) system.AddBeamSplitter(a, b, Physics.Angular(rateHz));
+            else system.AddTwoModeSqueezing(a, b, Physics.Angular(rateHz));
         }
-        else
-        {
-            AddEliminatedCavities(scenario, stage, system, index);
-        }
-        return system.ToLinearModel();
     }
 
     /// <summary>

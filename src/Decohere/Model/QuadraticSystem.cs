@@ -25,6 +25,16 @@ public sealed class QuadraticSystem
         _jumpSum = Matrix<Complex>.Build.Dense(n, n);
     }
 
+    private QuadraticSystem(QuadraticSystem other)
+    {
+        _modes = other._modes;
+        _hamiltonian = other._hamiltonian.Clone();
+        _jumpSum = other._jumpSum.Clone();
+    }
+
+    /// <summary>An independent copy, to change a few terms of without building the rest again.</summary>
+    public QuadraticSystem Copy() => new(this);
+
     /// <summary>Number of modes.</summary>
     public int ModeCount => _modes.Length;
 
@@ -80,6 +90,26 @@ public sealed class QuadraticSystem
         AddJump((mode, Math.Sqrt(rate * (occupancy + 1)), Complex.Zero));
         if (occupancy > 0) AddJump((mode, Complex.Zero, Math.Sqrt(rate * occupancy)));
         return this;
+    }
+
+    /// <summary>
+    /// Sets the 𝐇 entries that couple modes a ≠ b to zero, so that the pair's bilinear terms can be added again with new rates.
+    /// </summary>
+    internal void ClearPair(int a, int b)
+    {
+        _hamiltonian[2 * a, 2 * b] = _hamiltonian[2 * b, 2 * a] = 0;
+        _hamiltonian[2 * a + 1, 2 * b + 1] = _hamiltonian[2 * b + 1, 2 * a + 1] = 0;
+    }
+
+    /// <summary>
+    /// Replaces a mode's damping, for a system in which that mode's damping is its only jump (a full model): its rows of C
+    /// start again from zero and the same two jumps are added, so the entries are those a new build gives, bit for bit.
+    /// </summary>
+    internal void RedoDamping(int mode, double rate, double occupancy)
+    {
+        int n = 2 * _modes.Length;
+        for (int l = 0; l < n; l++) _jumpSum[2 * mode, l] = _jumpSum[2 * mode + 1, l] = Complex.Zero;
+        AddDamping(mode, rate, occupancy);
     }
 
     /// <summary>The drift A and diffusion D of this system.</summary>

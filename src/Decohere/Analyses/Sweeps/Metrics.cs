@@ -5,41 +5,119 @@ using Decohere.Core;
 using Decohere.Model.Readouts;
 using Decohere.Engine;
 using Decohere.Model;
+using Decohere.Numerics;
+using MathNet.Numerics.LinearAlgebra;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
 namespace Decohere.Analyses.Sweeps;
 
 /// <summary>
-/// One point of a sweep while its metrics are evaluated: the modified scenario, its seed, and the solved dynamics,
-/// computed once on first use and shared by every metric of the point. Not thread-safe (one point, one thread).
+/// One point of a sweep while its metrics are evaluated: the modified scenario, its seed, and what the metrics need of
+/// its dynamics, each computed once on first use and shared by every metric of the point. Steady states and stability
+/// come straight from the stage models (see <see cref="SteadyState"/>); the states at stage ends propagate the whole
+/// scenario. Not thread-safe (one point, one thread).
 /// </summary>
-public sealed class SweepPoint(long index, long seed, Scenario scenario)
+public sealed class SweepPoint
 {
+    private readonly SweepTemplate? _template;
+    private readonly LinearModel?[] _models;
+    private readonly GaussianState?[] _steady;
+    private readonly Stability?[] _stability;
+    private readonly LifetimeCore?[] _lifetimes;
     private Dynamics? _dynamics;
-    private readonly Stability?[] _stability = new Stability?[scenario.Stages.Length];
-    private readonly LifetimeCore?[] _lifetimes = new LifetimeCore?[scenario.Stages.Length];
+    private bool? _solvable;
+
+    /// <summary>A point of a scenario, its models built from it.</summary>
+    public SweepPoint(long index, long seed, Scenario scenario) : this(index, seed, scenario, null) { }
+
+    /// <summary>A point of a sweep, its models derived from the template's.</summary>
+    internal SweepPoint(long index, long seed, Scenario scenario, SweepTemplate? template)
+    {
+        Index = index;
+        Seed = seed;
+        Scenario = scenario with { Seed = seed };
+        _template = template;
+        int stages = scenario.Stages.Length;
+        _models = new LinearModel?[stages];
+        _steady = new GaussianState?[stages];
+        _stability = new Stability?[stages];
+        _lifetimes = new LifetimeCore?[stages];
+    }
 
     /// <summary>Point index in the grid.</summary>
-    public long Index { get; } = index;
+    public long Index { get; }
 
     /// <summary>The point's own seed (for metrics that sample); also set as the scenario's seed.</summary>
-    public long Seed { get; } = seed;
+    public long Seed { get; }
 
     /// <summary>The scenario at this point.</summary>
-    public Scenario Scenario { get; } = scenario with { Seed = seed };
+    public Scenario Scenario { get; }
 
     /// <summary>The solved dynamics (all stages, every boundary state).</summary>
     public Dynamics Dynamics => _dynamics ??= Dynamics.Solve(Scenario);
 
+    /// <summary>The linear model of a stage.</summary>
+    public LinearModel Model(int stage) =>
+        _models[stage] ??= _template?.Models.For(Scenario, stage) ?? ModelBuilder.Build(Scenario, Scenario.Stages[stage]);
+
     /// <summary>Stability of a stage, straight from its drift (so it is reported even when the dynamics cannot be solved).</summary>
     public Stability Stability(int stage) =>
-        _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Engine.Stability.Of(ModelBuilder.Build(Scenario, Scenario.Stages[stage]).Drift);
+        _stability[stage] ??= _dynamics?.Stabilities[stage]
+            ?? (_template is { } t && ReferenceEquals(Model(stage), t.Models.Template(stage)) ? t.Stability(stage) : Engine.Stability.Of(Model(stage).Drift));
+
+    /// <summary>
+    /// The steady state of a stage, as <see cref="Dynamics.SteadyState"/> gives it: the one Lyapunov solver on the stage's
+    /// model. A point that <see cref="Dynamics.Solve"/> would accept needs no propagation for it; any other (and an
+    /// unstable stage) goes through <see cref="Dynamics"/>, so the failure reads as it does everywhere else.
+    /// </summary>
+    public GaussianState SteadyState(int stage)
+    {
+        if (_steady[stage] is { } known) return known;
+        if (_dynamics is not null || !Solvable() || !Stability(stage).IsStable) return _steady[stage] = Dynamics.SteadyState(stage);
+        var model = Model(stage);
+        return _steady[stage] = new GaussianState(Vector<double>.Build.Dense(model.Dimension), Lyapunov.Solve(model.Drift, model.Diffusion).Covariance,
+            model.ModeNames);
+    }
 
     /// <summary>The lifetimes after a stage (no sensitivities), computed once and shared by the lifetime metrics.</summary>
     public LifetimeCore Lifetimes(int stage) =>
         _lifetimes[stage] ??= LifetimeAnalysis.Analyze(Scenario,
             new LifetimeSettings { AfterStage = Scenario.Stages[stage].Name, Sensitivities = false, CurvePoints = 2 });
+
+    // The refusals of Dynamics.Solve that do not need the propagation: rates that overflow, a stage amplifying past
+    // Dynamics.MaxGrowthFolds, steady initial modes without a steady first stage. A point clear of them solves.
+    private bool Solvable()
+    {
+        if (_solvable is { } known) return known;
+        var stages = Scenario.Stages;
+        bool solvable = true;
+        for (int i = 0; i < stages.Length && solvable; i++)
+            solvable = AllFinite(Model(i).Drift) && AllFinite(Model(i).Diffusion);
+        for (int i = 0; i < stages.Length && solvable; i++)
+            solvable = !(Stability(i).GrowthRate * stages[i].DurationS > Dynamics.MaxGrowthFolds);
+        if (solvable && Scenario.Initial.Values.Any(s => s is InitialState.Steady)) solvable = Stability(0).IsStable;
+        return (_solvable = solvable).Value;
+    }
+
+    private static bool AllFinite(Matrix<double> m)
+    {
+        foreach (double x in m.AsColumnMajorArray() ?? m.ToColumnMajorArray())
+            if (!double.IsFinite(x)) return false;
+        return true;
+    }
+}
+
+/// <summary>What the points of one sweep share: the template's stage models and their stabilities.</summary>
+internal sealed class SweepTemplate(Scenario template)
+{
+    private readonly Stability?[] _stability = new Stability?[template.Stages.Length];
+
+    /// <summary>The template's models, and the fast path to each point's.</summary>
+    public StageModels Models { get; } = new(template);
+
+    /// <summary>Stability of the template's stage (computed once; a race computes the same value twice).</summary>
+    public Stability Stability(int stage) => _stability[stage] ??= Engine.Stability.Of(Models.Template(stage).Drift);
 }
 
 /// <summary>A metric bound to a sweep: its canonical spec (<c>steady_squeezing_db:squeeze</c>), column name (unit in the name) and function.</summary>
@@ -65,9 +143,9 @@ public static class Metrics
     public static ImmutableArray<MetricDefinition> All { get; } =
     [
         StageMoment("steady_var_min", "", "steady-state minimum quadrature variance of the stage (quanta; 0.5 = zero-point)",
-            (p, stage, mode) => p.Dynamics.SteadyState(stage).Moments(mode).VarMin),
+            (p, stage, mode) => p.SteadyState(stage).Moments(mode).VarMin),
         StageMoment("steady_squeezing_db", "", "steady-state squeezing of the stage, 10·log10(0.5/var_min) (dB, > 0 below zero-point)",
-            (p, stage, mode) => p.Dynamics.SteadyState(stage).Moments(mode).SqueezingDb),
+            (p, stage, mode) => p.SteadyState(stage).Moments(mode).SqueezingDb),
         StageMoment("end_var_min", "", "minimum quadrature variance at the end of the stage (quanta)",
             (p, stage, mode) => p.Dynamics.Boundaries[stage + 1].Moments(mode).VarMin),
         StageMoment("end_squeezing_db", "", "squeezing at the end of the stage (dB)",

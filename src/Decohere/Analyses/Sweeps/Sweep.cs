@@ -13,6 +13,9 @@ namespace Decohere.Analyses.Sweeps;
 /// </summary>
 public sealed class Sweep
 {
+    // The template's stage models, built once on first use and shared by every point.
+    private readonly Lazy<SweepTemplate> _shared;
+
     /// <summary>Metadata key of the sweep's description (JSON) in every sweep table, part and chunk file.</summary>
     public const string MetadataKey = "decohere.sweep";
 
@@ -35,6 +38,7 @@ public sealed class Sweep
         Template = template;
         Grid = grid;
         Metrics = metrics;
+        _shared = new(() => new SweepTemplate(template));
         Description = new SweepDescription(template.SourceHash, template.Seed, grid.Zip, grid.PointCount,
             [.. grid.Axes.Select(a => new SweepDescription.Axis(a.Path.Text, a.Path.ColumnName, a.Text, a.Logarithmic, a.Values))],
             [.. metrics.Select(m => new SweepDescription.MetricColumn(m.Spec, m.Column))]);
@@ -73,7 +77,7 @@ public sealed class Sweep
         SweepPoint? p = null;
         try
         {
-            p = new SweepPoint(point, seed, Grid.Apply(Template, values));
+            p = new SweepPoint(point, seed, Grid.Apply(Template, values), _shared.Value);
         }
         catch (Exception e) when (e is not OperationCanceledException and not OutOfMemoryException)
         {

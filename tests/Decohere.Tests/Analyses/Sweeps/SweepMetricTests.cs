@@ -1,5 +1,7 @@
 using Decohere.Analyses.Sweeps;
 using Decohere.Core;
+using Decohere.Engine;
+using Decohere.Numerics;
 using Decohere.Scenarios;
 
 namespace Decohere.Tests.Analyses.Sweeps;
@@ -80,6 +82,51 @@ public class SweepMetricTests
         Assert.True(unstable.Metrics[1] > 0);
         Assert.NotNull(unstable.Metrics[2]); // the time evolution still exists
         Assert.Contains("has no steady state", unstable.Error);
+    }
+
+    [Fact]
+    public void SteadyStatesWithoutPropagationAreThoseOfTheSolvedDynamics()
+    {
+        // A point's steady state skips the propagation through the stages; the propagating path (Dynamics.Solve, whose
+        // steady state is checked against Kronwald et al. above) is the reference, bit for bit and word for word: stable
+        // points, a stage without a steady state, a stage amplifying past the growth limit (Dynamics.MaxGrowthFolds), and
+        // a steady initial state whose first stage has none.
+        var blueFirst = Demo with
+        {
+            Initial = Demo.Initial.SetItem("drum", new InitialState.Steady()),
+            Stages = Demo.Stages.SetItem(0, Demo.Stages[0] with { Tones = [.. Demo.Stages[0].Tones, Demo.Stages[1].Tones[1]] }),
+        };
+        foreach (var (template, vary) in new[]
+        {
+            (Demo, "stages.squeeze.tones[1].coupling=5kHz,18kHz,26kHz,40kHz,300kHz"),
+            (blueFirst, "stages.prepare.tones[1].coupling=5kHz,30kHz"),
+        })
+        {
+            var sweep = Sweep.Parse(template, [vary, "modes.drum.bath.temperature=10mK,50mK"], false, "steady_squeezing_db:squeeze,steady_var_min:prepare");
+            for (long p = 0; p < sweep.Grid.PointCount; p++)
+            {
+                var row = sweep.Evaluate(p);
+                var values = new double[2];
+                sweep.Grid.ValuesAt(p, values);
+                var scenario = sweep.Grid.Apply(template, values);
+                var expected = new List<string>();
+                double? Reference(int stage, Func<ModeMoments, double> pick)
+                {
+                    try
+                    {
+                        return pick(Dynamics.Solve(scenario).SteadyState(stage).Moments("drum"));
+                    }
+                    catch (Exception e) when (e is UnstableDynamicsException)
+                    {
+                        if (!expected.Contains(e.Message)) expected.Add(e.Message);
+                        return null;
+                    }
+                }
+                Assert.Equal(Reference(1, m => m.SqueezingDb), row.Metrics[0]);
+                Assert.Equal(Reference(0, m => m.VarMin), row.Metrics[1]);
+                Assert.Equal(string.Join("; ", expected), row.Error);
+            }
+        }
     }
 
     [Fact]

@@ -1,0 +1,95 @@
+using Decohere.Scenarios;
+
+namespace Decohere.Model;
+
+/// <summary>
+/// The linear model of every stage of a template scenario, built once, and of modified copies of it (<c>template with
+/// { … }</c>, as sweeps and fits make them). A stage whose inputs a copy shares keeps the template's model (the same
+/// instance). In the full model, a copy that differs only in bath occupancies or tone couplings redoes just those terms
+/// (a mode's damping rows of C, a pair's entries of 𝐇) in the template's <see cref="QuadraticSystem"/> before the one map
+/// to (A, D); the sums run in the order <see cref="ModelBuilder"/> uses, so the models are bit for bit those of a new
+/// build. Any other difference is built again by <see cref="ModelBuilder.Build"/>. Thread-safe.
+/// </summary>
+public sealed class StageModels
+{
+    private readonly Scenario _template;
+    private readonly QuadraticSystem[] _systems;
+    private readonly LinearModel[] _models;
+    private readonly double[][] _occupancies;
+    private readonly Dictionary<string, int> _index;
+
+    /// <summary>Builds the template's models.</summary>
+    public StageModels(Scenario template)
+    {
+        _template = template;
+        var modes = ModelBuilder.StateModes(template);
+        _index = ModelBuilder.Indices(modes);
+        _systems = [.. template.Stages.Select(s => ModelBuilder.BuildSystem(template, s))];
+        _models = [.. _systems.Select(s => s.ToLinearModel())];
+        _occupancies = [.. template.Stages.Select(s => modes.Select(m => ModelBuilder.BathOccupancy(template, m, s)).ToArray())];
+    }
+
+    /// <summary>The template's model of stage i.</summary>
+    public LinearModel Template(int stage) => _models[stage];
+
+    /// <summary>The model of stage i of <paramref name="copy"/>, a modified copy of the template with the same stages and modes.</summary>
+    public LinearModel For(Scenario copy, int stage)
+    {
+        var t = _template;
+        var stageNow = copy.Stages[stage];
+        if (copy.Model != t.Model || copy.SidebandCorrections != t.SidebandCorrections || copy.Couplings != t.Couplings
+            || copy.Stages.Length != t.Stages.Length)
+            return ModelBuilder.Build(copy, stageNow);
+        var stageThen = t.Stages[stage];
+        if (copy.Modes == t.Modes && ReferenceEquals(stageNow, stageThen)) return _models[stage];
+        // The effective model mixes each eliminated cavity's jumps into the mechanical rows; only a new build redoes those.
+        if (t.Model != ModelKind.Full || stageNow.DetuningsHz != stageThen.DetuningsHz || !SameModesButBaths(copy, t)
+            || !SameTonesButCouplings(stageNow, stageThen))
+            return ModelBuilder.Build(copy, stageNow);
+
+        QuadraticSystem? system = null;
+        var before = _occupancies[stage];
+        for (int j = 0; j < copy.Modes.Length; j++)
+        {
+            var mode = copy.Modes[j];
+            double occupancy = ModelBuilder.BathOccupancy(copy, mode, stageNow);
+            if (!Same(occupancy, before[j])) (system ??= _systems[stage].Copy()).RedoDamping(j, mode.DecayRate, occupancy);
+        }
+        for (int k = 0; k < stageNow.Tones.Length; k++)
+        {
+            if (Same(stageNow.Tones[k].CouplingHz, stageThen.Tones[k].CouplingHz)) continue;
+            int a = _index[stageNow.Tones[k].Cavity], b = _index[stageNow.Tones[k].Mechanical];
+            (system ??= _systems[stage].Copy()).ClearPair(a, b);
+            ModelBuilder.AddBilinearTerms(copy, stageNow, system, _index, (x, y) => (x == a && y == b) || (x == b && y == a));
+        }
+        return system?.ToLinearModel() ?? _models[stage];
+    }
+
+    private static bool Same(double x, double y) => BitConverter.DoubleToInt64Bits(x) == BitConverter.DoubleToInt64Bits(y);
+
+    // In the full model a mode enters the stage's model through its name, kind, decay rate and bath occupancy; the
+    // occupancy is compared per stage above, the rest must be the template's.
+    private static bool SameModesButBaths(Scenario copy, Scenario t)
+    {
+        if (copy.Modes == t.Modes) return true;
+        if (copy.Modes.Length != t.Modes.Length) return false;
+        for (int j = 0; j < t.Modes.Length; j++)
+        {
+            Mode now = copy.Modes[j], then = t.Modes[j];
+            if (now.Name != then.Name || now.Kind != then.Kind || !Same(now.LinewidthHz, then.LinewidthHz)) return false;
+        }
+        return true;
+    }
+
+    private static bool SameTonesButCouplings(Stage now, Stage then)
+    {
+        if (now.Tones == then.Tones) return true;
+        if (now.Tones.Length != then.Tones.Length) return false;
+        for (int k = 0; k < now.Tones.Length; k++)
+        {
+            Tone a = now.Tones[k], b = then.Tones[k];
+            if (a.Cavity != b.Cavity || a.Mechanical != b.Mechanical || a.Sideband != b.Sideband) return false;
+        }
+        return true;
+    }
+}
