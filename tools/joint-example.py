@@ -4,12 +4,15 @@
 - heating.csv: the variances `decohere run` samples from device.yaml (its seed 7): the project's own shot sampler.
 - cooling.csv: `decohere cooling` of device.yaml at twelve cooperativities, each occupancy with 5 % Gaussian noise
   (occupancy_err states it).
+- sidebands.csv: the sideband asymmetry `decohere spectrum` computes for thermometry.yaml with both probes at 100, 200 and
+  300 Hz, each with Gaussian noise of 0.002 (ratio_err states it).
 - ringdown.csv: the energy of the drum ringing down at the device's damping (linewidth 10 Hz), each point drawn from
   the exponential (thermal) distribution about E0·exp(−γt) + E_th, E0 = 1000, E_th = 40 (arbitrary units).
 
 Run from the repository root: tools/joint-example.py [decohere command, default: dotnet run --project src/Decohere.Cli --]
 """
 import csv
+import json
 import math
 import random
 import shlex
@@ -50,6 +53,17 @@ with tempfile.TemporaryDirectory() as tmp:
         table.append([r["cooperativity"], repr(n + rng.gauss(0, sd)), repr(sd)])
     write(here / "cooling.csv", ["cooperativity", "occupancy", "occupancy_err"], table)
 
+    table = []
+    text = (here / "thermometry.yaml").read_text()
+    for g in (100, 200, 300):
+        probe = Path(tmp) / "probe.yaml"
+        probe.write_text(text.replace("coupling: 300 Hz", f"coupling: {g} Hz"))
+        subprocess.run([*decohere, "spectrum", str(probe), "--points", "20", "--out", tmp, "--quiet"], check=True)
+        with open(Path(tmp) / "spectrum.json") as f:
+            ratio = json.load(f)["asymmetry"][0]["ratio"]
+        table.append([g, repr(ratio + rng.gauss(0, 0.002)), 0.002])
+    write(here / "sidebands.csv", ["coupling_hz", "ratio", "ratio_err"], table)
+
 gamma = 2 * math.pi * 10.0
 table = []
 for k in range(80):
@@ -57,4 +71,4 @@ for k in range(80):
     mean = 1000 * math.exp(-gamma * t) + 40
     table.append([f"{t:.6g}", repr(rng.expovariate(1 / mean))])
 write(here / "ringdown.csv", ["time_s", "energy"], table)
-print("wrote", ", ".join(str(here / f) for f in ("heating.csv", "cooling.csv", "ringdown.csv")))
+print("wrote", ", ".join(str(here / f) for f in ("heating.csv", "cooling.csv", "sidebands.csv", "ringdown.csv")))

@@ -1,11 +1,12 @@
 using System.Collections.Immutable;
 using Decohere.Analyses.Cooling;
 using Decohere.Analyses.Ringdown;
+using Decohere.Analyses.Spectra;
 using Decohere.Core;
 
 namespace Decohere.IO;
 
-/// <summary>Data files of the lab analyses (cooling curves, ring-downs), read through <see cref="DataTable"/> (CSV, Parquet or HDF5).</summary>
+/// <summary>Data files of the lab analyses (cooling curves, ring-downs, sideband asymmetries), read through <see cref="DataTable"/> (CSV, Parquet or HDF5).</summary>
 public static class LabDataReader
 {
     /// <summary>Reads (cooperativity, occupancy[, occupancy_err]) rows through the project's data table reader.</summary>
@@ -24,6 +25,28 @@ public static class LabDataReader
             if (err is not null && !(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column occupancy_err: {err[r]} must be > 0");
         }
         return [.. c.Select((x, r) => new CoolingPoint(x, n[r], err?[r]))];
+    }
+
+    /// <summary>
+    /// Reads measured sideband asymmetries: <c>ratio</c> ξ = (P₋/Γ₋)/(P₊/Γ₊) with its standard error <c>ratio_err</c>, and
+    /// optionally <c>coupling_hz</c>, the probe tones' coupling G/2π of each point (a series against probe strength).
+    /// </summary>
+    /// <exception cref="InputException">A column is missing, or a value is not finite or out of range.</exception>
+    public static async Task<IReadOnlyList<SidebandRatioPoint>> ReadSidebandsAsync(string path, CancellationToken cancel)
+    {
+        var table = await DataTable.LoadAsync(path, cancel);
+        foreach (string column in new[] { "ratio", "ratio_err" })
+            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
+        var ratio = table.Numbers("ratio", "ratio");
+        var err = table.Numbers("ratio_err", "ratio_err");
+        var coupling = table.Has("coupling_hz") ? table.Numbers("coupling_hz", "coupling_hz") : null;
+        for (int r = 0; r < ratio.Length; r++)
+        {
+            if (!(ratio[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column ratio: {ratio[r]} must be > 0");
+            if (!(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column ratio_err: {err[r]} must be > 0");
+            if (coupling is not null && !(coupling[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column coupling_hz: {coupling[r]} must be > 0");
+        }
+        return [.. ratio.Select((x, r) => new SidebandRatioPoint(coupling?[r], x, err[r]))];
     }
 
     /// <summary>Reads a ring-down through the project's data table reader: time_s and amplitude [sigma] or energy.</summary>

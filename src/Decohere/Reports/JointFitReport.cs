@@ -203,10 +203,13 @@ public sealed class JointFitReport : IReport<JointFitResult>
             Ticks.Log(plot.Axes.Left, ys.Min(), ys.Max());
         }
         else Ticks.Linear(plot.Axes.Left);
-        plot.XLabel(s.Axis.Unit == "s" ? $"{s.Axis.Name} ({unit.Symbol})" : s.Axis.Name);
-        plot.YLabel($"{string.Join(", ", quantities)} ({s.ValueUnit})");
+        string xUnit = s.Axis.Unit == "s" ? unit.Symbol : s.Axis.Unit;
+        plot.XLabel(xUnit.Length > 0 ? $"{s.Axis.Name} ({xUnit})" : s.Axis.Name);
+        plot.YLabel(string.Join(", ", quantities) + (s.ValueUnit.Length > 0 ? $" ({s.ValueUnit})" : ""));
         plot.Title($"{s.Name} ({s.Kind}){(s.PValue is { } p ? $": p = {p:G2}" : "")}");
-        plot.ShowLegend(Alignment.UpperLeft);
+        // A curve that falls from the left (sideband ratios against probe strength) keeps its first points clear of the legend.
+        bool falling = s.Points.Length > 1 && s.Points.MinBy(p => p.X)!.Observed > s.Points.MaxBy(p => p.X)!.Observed;
+        plot.ShowLegend(falling && !logY ? Alignment.UpperRight : Alignment.UpperLeft);
         return plot;
     }
 }

@@ -31,13 +31,13 @@ public sealed class JointFitCommandTests : IDisposable
         foreach (var f in new[] { "joint-fit.json", "joint-fit.parquet", "joint-fit.csv", "joint-fit.png", "joint-fit.svg", "joint-fit.md", "decohere-manifest.json" })
             Assert.True(File.Exists(Path.Combine(output, f)), f);
         // DuckDB, an independent Parquet reader: one row per point of each data set (8 delays × var_i, var_q; 80 ring-down
-        // points; 12 cooperativities, as the example's files hold), every model value a finite number.
+        // points; 12 cooperativities; 3 sideband asymmetries, as the example's files hold), every model value a finite number.
         var rows = DuckDb.Query($"SELECT data_set, count(*), count(model), min(x_unit), min(unit) FROM read_parquet({DuckDb.Literal(Path.Combine(output, "joint-fit.parquet"))}) GROUP BY data_set ORDER BY data_set");
-        Assert.Equal(["cooling", "heating", "ringdown"], rows.Select(r => (string)r[0]!));
-        Assert.Equal([12L, 16L, 80L], rows.Select(r => Convert.ToInt64(r[1])));
-        Assert.Equal([12L, 16L, 80L], rows.Select(r => Convert.ToInt64(r[2])));
-        Assert.Equal(["", "s", "s"], rows.Select(r => (string)r[3]!));
-        Assert.Equal(["quanta", "quanta", "data units"], rows.Select(r => (string)r[4]!));
+        Assert.Equal(["cooling", "heating", "ringdown", "sidebands"], rows.Select(r => (string)r[0]!));
+        Assert.Equal([12L, 16L, 80L, 3L], rows.Select(r => Convert.ToInt64(r[1])));
+        Assert.Equal([12L, 16L, 80L, 3L], rows.Select(r => Convert.ToInt64(r[2])));
+        Assert.Equal(["", "s", "s", "Hz"], rows.Select(r => (string)r[3]!));
+        Assert.Equal(["quanta", "quanta", "data units", ""], rows.Select(r => (string)r[4]!));
         var json = JsonNode.Parse(File.ReadAllText(Path.Combine(output, "joint-fit.json")))!;
         Assert.True(json["parameters"]!["gamma"]!["shared"]!.GetValue<bool>());
         Assert.Equal("Hz", json["parameters"]!["gamma"]!["unit"]!.GetValue<string>());

@@ -78,6 +78,9 @@ public sealed record SidebandPower(int Tone, string Cavity, string Mechanical, S
 /// </summary>
 public sealed record SidebandAsymmetry(string Mechanical, int RedTone, int BlueTone, double Ratio, double? NaiveOccupancy, double TrueOccupancy);
 
+/// <summary>A measured sideband asymmetry ξ with its standard error, and the probes' coupling G/2π (Hz) if the point sets it.</summary>
+public sealed record SidebandRatioPoint(double? CouplingHz, double Ratio, double Error);
+
 /// <summary>The spectra of one stage.</summary>
 public sealed record SpectrumResult(
     Scenario Scenario,
@@ -258,6 +261,38 @@ public static class SpectrumAnalysis
         double power = efficiency * kappa * (Occupancy(vProbe, c) - Occupancy(vOff, c));
         double g = Physics.Angular(tone.CouplingHz);
         return new SidebandPower(t, tone.Cavity, tone.Mechanical, tone.Sideband, tone.CouplingHz, 4 * g * g / kappa, power, Occupancy(vProbe, m));
+    }
+
+    /// <summary>
+    /// The stage and tones of a sideband-asymmetry measurement: the named stage (else the first) with a red and a blue tone on
+    /// one mechanical mode.
+    /// </summary>
+    /// <exception cref="InputException">No such stage, or the stage has no red and blue pair.</exception>
+    public static (int Stage, int Red, int Blue) AsymmetryPair(Scenario scenario, string? stage)
+    {
+        for (int i = 0; i < scenario.Stages.Length; i++)
+        {
+            var st = scenario.Stages[i];
+            if (stage is not null && st.Name != stage) continue;
+            for (int r = 0; r < st.Tones.Length; r++)
+                for (int b = 0; b < st.Tones.Length; b++)
+                    if (st.Tones[r].Sideband == Sideband.Red && st.Tones[b].Sideband == Sideband.Blue && st.Tones[r].Mechanical == st.Tones[b].Mechanical)
+                        return (i, r, b);
+            if (stage is not null) throw new InputException($"stage: '{stage}' has no red and blue tone on one mechanical mode, which a sideband asymmetry needs");
+        }
+        throw new InputException(stage is null
+            ? "stage: no stage has a red and a blue tone on one mechanical mode, which a sideband asymmetry needs"
+            : $"stage: unknown stage '{stage}'; stages: {string.Join(", ", scenario.Stages.Select(x => x.Name))}");
+    }
+
+    /// <summary>The asymmetry ξ = (P₋/Γ₋)/(P₊/Γ₊) of a red and a blue tone of a stage, each probing alone (see <see cref="SidebandAsymmetry"/>).</summary>
+    /// <exception cref="UnstableDynamicsException">A probe has no steady state.</exception>
+    public static double AsymmetryRatio(Scenario scenario, int stage, int red, int blue)
+    {
+        var st = scenario.Stages[stage];
+        var r = SidebandOf(scenario, st, red);
+        var b = SidebandOf(scenario, st, blue);
+        return r.PowerPerS / r.RatePerS / (b.PowerPerS / b.RatePerS);
     }
 
     // The sideband and its spectrum in the cavity's output.

@@ -36,9 +36,9 @@ public sealed class JointFitLoaderTests : IDisposable
     public async Task TheExampleLoadsWithSharedAndOwnParameters()
     {
         var problem = await JointFitLoader.LoadAsync(Path.Combine(_dir, "joint.yaml"));
-        Assert.Equal(["heating", "ringdown", "cooling"], problem.Terms.Select(t => t.Name));
+        Assert.Equal(["heating", "ringdown", "cooling", "sidebands"], problem.Terms.Select(t => t.Name));
         var gamma = problem.Parameters.Single(p => p.Name == "gamma");
-        Assert.Equal(["heating", "ringdown", "cooling"], gamma.DataSets.ToArray());
+        Assert.Equal(["heating", "ringdown", "cooling", "sidebands"], gamma.DataSets.ToArray());
         Assert.Equal(Dimension.Frequency, gamma.Dimension);
         Assert.Equal(8, gamma.Start);
         Assert.False(problem.Parameters.Single(p => p.Name == "n_add").Shared);
@@ -128,5 +128,29 @@ public sealed class JointFitLoaderTests : IDisposable
         Assert.Equal(At(text, "short.csv", "short.csv"), (e.Problems.Single(p => p.Path == "data.ringdown.file") is var r ? (r.Line, r.Column) : default));
         Assert.Contains("at least 5", e.Problems.Single(p => p.Path == "data.ringdown.file").Message);
         Assert.Contains(e.Problems, p => p.Path == "data.cooling.file");
+    }
+
+    [Fact]
+    public async Task SidebandsNeedTheFullModelAndAStageWithBothProbes()
+    {
+        const string text = """
+            parameters:
+              n_bath: { start: 30 }
+            data:
+              effective:
+                kind: sidebands
+                file: sidebands.csv
+                scenario: device.yaml
+                set: { modes.drum.bath.occupancy: n_bath }
+              wrong_stage:
+                kind: sidebands
+                file: sidebands.csv
+                scenario: thermometry.yaml
+                stage: nowhere
+                set: { modes.drum.bath.occupancy: n_bath }
+            """;
+        var e = await Assert.ThrowsAsync<ScenarioException>(() => Load(text));
+        Assert.Contains(e.Problems, p => p.Path == "data.effective.scenario" && p.Message.Contains("model: full"));
+        Assert.Contains(e.Problems, p => p.Path == "data.wrong_stage.stage" && p.Message.Contains("unknown stage 'nowhere'") && p.Line == 13);
     }
 }

@@ -2,6 +2,7 @@ using System.Collections.Immutable;
 using YamlDotNet.Core;
 using YamlDotNet.RepresentationModel;
 using Decohere.Analyses.Cooling;
+using Decohere.Analyses.Spectra;
 using Decohere.Analyses.Ringdown;
 using Decohere.Core;
 using Decohere.IO;
@@ -26,6 +27,7 @@ public static class JointFitLoader
         ["delays"] = ["kind", "file", "scenario", "set", "columns", "delay_unit", "mode", "calibration"],
         ["ringdown"] = ["kind", "file", "set", "time_unit", "sigma"],
         ["cooling"] = ["kind", "file", "scenario", "set", "stage", "tone"],
+        ["sidebands"] = ["kind", "file", "scenario", "set", "stage"],
     }.ToImmutableDictionary();
 
     private static readonly string[] ParameterKeys = ["start", "unit", "prior"];
@@ -277,7 +279,7 @@ public static class JointFitLoader
             var fileNode = Reader.Required(map, path, "file", "the data file, CSV, Parquet or HDF5 FILE.h5:/group, relative to this file");
             string? file = fileNode is null ? null : Reader.String(fileNode, path + ".file");
             Scenario? scenario = null;
-            if (kind is "delays" or "cooling")
+            if (kind is "delays" or "cooling" or "sidebands")
             {
                 var scenarioNode = Reader.Required(map, path, "scenario", "the scenario file that models the data, relative to this file");
                 if (scenarioNode is not null && Reader.String(scenarioNode, path + ".scenario") is { } scenarioFile)
@@ -290,6 +292,7 @@ public static class JointFitLoader
                 {
                     "delays" => scenario is null ? null : await Delays(name, path, map, Resolve(file), scenario, mapped, cancel),
                     "ringdown" => await Ringdown(name, path, map, Resolve(file), mapped, cancel),
+                    "sidebands" => scenario is null ? null : await Sidebands(name, path, map, Resolve(file), scenario, mapped, cancel),
                     _ => scenario is null ? null : await Cooling(name, path, map, Resolve(file), scenario, mapped, cancel),
                 };
             }
@@ -462,6 +465,32 @@ public static class JointFitLoader
             }
             return new Pending(name, uses, index => new CoolingTerm(name, Path.GetFileName(file), scenario, stage, toneIndex, [.. points],
                 [.. targets.Select(t => (t.Path, index(t.Parameter)))], [.. heating.Select(index)]), null);
+        }
+
+        private async Task<Pending?> Sidebands(string name, string path, YamlMappingNode map, string file, Scenario scenario,
+            List<(string Key, YamlScalarNode KeyNode, string Parameter, YamlNode Node)> mapped, CancellationToken cancel)
+        {
+            string? stageName = YamlReader.Get(map, "stage") is { } sn ? Reader.String(sn, path + ".stage") : null;
+            if (scenario.Model != ModelKind.Full)
+            {
+                Reader.Report(path + ".scenario", YamlReader.Get(map, "scenario") ?? map, $"scenario '{scenario.Name}' has model: effective; sideband powers come from the cavity's output, which needs model: full");
+                return null;
+            }
+            (int Stage, int Red, int Blue) pair;
+            try
+            {
+                pair = SpectrumAnalysis.AsymmetryPair(scenario, stageName);
+            }
+            catch (InputException e)
+            {
+                Reader.Report(path + ".stage", YamlReader.Get(map, "stage") ?? map, e.Message);
+                return null;
+            }
+            var targets = ScenarioTargets(name, path, scenario, mapped);
+            var points = await LabDataReader.ReadSidebandsAsync(file, cancel);
+            if (points.Count == 0) throw new InputException($"data file {Path.GetFileName(file)}: no rows; a sideband asymmetry needs at least one (ratio, ratio_err) point");
+            return new Pending(name, [.. targets.Select(t => (t.Parameter, t.Target))], index => new SidebandTerm(name, Path.GetFileName(file), scenario, pair, [.. points],
+                [.. targets.Select(t => (t.Path, index(t.Parameter)))]), null);
         }
     }
 }

@@ -1,6 +1,8 @@
 using System.Collections.Immutable;
 using Decohere.Analyses.Cooling;
 using Decohere.Analyses.Ringdown;
+using Decohere.Analyses.Spectra;
+using Decohere.Numerics;
 using Decohere.Scenarios;
 using Decohere.Statistics;
 
@@ -326,4 +328,107 @@ public sealed class CoolingTerm : IJointTerm
         double rms = Math.Sqrt(Data.Select((p, i) => (p.Occupancy - model[i]) * (p.Occupancy - model[i])).Sum() / Math.Max(1, Data.Length - 2));
         return [.. Data.Select((p, i) => (p.Occupancy - model[i]) / rms)];
     }
+}
+
+/// <summary>
+/// Measured sideband asymmetries ξ = (P₋/Γ₋)/(P₊/Γ₊) of a stage's red and blue probes, modelled exactly by
+/// <see cref="SpectrumAnalysis.AsymmetryRatio"/> (each probe alone, its cavity's bath and back-action included, so a hot
+/// cavity's bias is part of the model), Gaussian in the stated errors. A point with a probe coupling sets both tones to it.
+/// </summary>
+public sealed class SidebandTerm : IJointTerm
+{
+    private readonly int _stage, _red, _blue;
+    private readonly ParameterPath? _redCoupling, _blueCoupling;
+
+    /// <summary>A term of <paramref name="data"/> under <paramref name="scenario"/>'s stage and red and blue tones <paramref name="pair"/>.</summary>
+    public SidebandTerm(string name, string source, Scenario scenario, (int Stage, int Red, int Blue) pair, ImmutableArray<SidebandRatioPoint> data,
+        ImmutableArray<(ParameterPath Path, int Index)> paths)
+    {
+        Name = name;
+        Source = source;
+        Scenario = scenario;
+        (_stage, _red, _blue) = pair;
+        Data = data;
+        Paths = paths;
+        if (data.Any(p => p.CouplingHz is not null))
+        {
+            string stage = scenario.Stages[_stage].Name;
+            _redCoupling = ParameterPath.Parse($"stages.{stage}.tones[{_red}].coupling", scenario);
+            _blueCoupling = ParameterPath.Parse($"stages.{stage}.tones[{_blue}].coupling", scenario);
+        }
+        Points = [.. data.Select((p, i) => new JointPoint("sideband_ratio", p.CouplingHz ?? i, p.Ratio, p.Error))];
+    }
+
+    /// <summary>The scenario before the joint parameters are set.</summary>
+    public Scenario Scenario { get; }
+
+    /// <summary>The measured points.</summary>
+    public ImmutableArray<SidebandRatioPoint> Data { get; }
+
+    /// <summary>The scenario paths set from the joint vector.</summary>
+    public ImmutableArray<(ParameterPath Path, int Index)> Paths { get; }
+
+    /// <inheritdoc/>
+    public string Name { get; }
+    /// <inheritdoc/>
+    public string Kind => "sidebands";
+    /// <inheritdoc/>
+    public string Source { get; }
+    /// <inheritdoc/>
+    public (string Name, string Unit) Axis => _redCoupling is null ? ("point", "") : ("probe coupling", "Hz");
+    /// <inheritdoc/>
+    public string ValueUnit => "";
+    /// <inheritdoc/>
+    public ImmutableArray<(string Key, int Index)> Uses => [.. Paths.Select(p => (p.Path.Text, p.Index))];
+    /// <inheritdoc/>
+    public int Statistics => Data.Length;
+    /// <inheritdoc/>
+    public bool Absolute => true;
+    /// <inheritdoc/>
+    public string Likelihood => "gaussian: sideband asymmetry with the stated errors";
+    /// <inheritdoc/>
+    public ImmutableArray<JointPoint> Points { get; }
+
+    /// <inheritdoc/>
+    public Scenario? Fitted(double[] x)
+    {
+        var s = Scenario;
+        foreach (var (path, index) in Paths) s = path.Set(s, x[index]);
+        return s;
+    }
+
+    /// <inheritdoc/>
+    public double[] Model(double[] x, CancellationToken cancel)
+    {
+        var s = Fitted(x)!;
+        var model = new double[Data.Length];
+        for (int i = 0; i < model.Length; i++)
+        {
+            cancel.ThrowIfCancellationRequested();
+            var at = Data[i].CouplingHz is { } g ? _blueCoupling!.Set(_redCoupling!.Set(s, g), g) : s;
+            model[i] = SpectrumAnalysis.AsymmetryRatio(at, _stage, _red, _blue);
+        }
+        return model;
+    }
+
+    /// <inheritdoc/>
+    public double Deviance(double[] x, CancellationToken cancel)
+    {
+        double[] model;
+        try
+        {
+            model = Model(x, cancel);
+        }
+        catch (UnstableDynamicsException)
+        {
+            // A trial point where a probe alone amplifies has no stationary sideband: impossible, not an error.
+            return double.PositiveInfinity;
+        }
+        double sum = 0;
+        for (int i = 0; i < model.Length; i++) sum += global::Decohere.Statistics.Deviance.Gaussian(Data[i].Ratio, model[i], Data[i].Error);
+        return sum;
+    }
+
+    /// <inheritdoc/>
+    public double[] Residuals(double[] model) => [.. Data.Select((p, i) => (p.Ratio - model[i]) / p.Error)];
 }
