@@ -14,7 +14,11 @@ public static class EstimatesPlot
 {
     /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
     public static string[] Save(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
-        Figure.Save(Build(evolution, sampler, estimates), stem);
+        Draw(evolution, sampler, estimates, stem).Write();
+
+    /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg.</summary>
+    public static FigureOutput Draw(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
+        new(new Multiplot(Build(evolution, sampler, estimates)), stem, Figure.Width, Figure.Height);
 
     private static Plot Build(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates)
     {
@@ -24,16 +28,22 @@ public static class EstimatesPlot
         double first = delays.Min(d => d.DelayS), last = delays.Max(d => d.DelayS);
         var axis = new TimeAxis(delays.Select(d => d.DelayS));
         int mode = evolution.ModeNames.IndexOf(sampler.Chain.Mode);
-        // The model curve: the covariance table's rows between the first and the last delay, and the exact model at each delay.
-        var curve = new SortedDictionary<double, ModeMoments>();
+        // The model curve: the covariance table's rows between the first and the last delay (in increasing time), and the
+        // exact model at each delay, which replaces a row at the same delay.
+        var curve = new List<(double Delay, ModeMoments Moments)>();
         for (int k = 0; k < evolution.Times.Length; k++)
         {
             double delay = evolution.Times[k] - start;
-            if (mode >= 0 && delay >= first && delay <= last && (delay > 0 || !axis.Log)) curve[delay] = evolution.Moments[k, mode];
+            if (mode >= 0 && delay >= first && delay <= last && (delay > 0 || !axis.Log)) curve.Add((delay, evolution.Moments[k, mode]));
         }
-        foreach (var d in delays) curve[d.DelayS] = d.Model;
-        double[] t = axis.At(curve.Keys);
-        double[] min = [.. curve.Values.Select(m => Log(m.VarMin))], max = [.. curve.Values.Select(m => Log(m.VarMax))];
+        foreach (var d in delays)
+        {
+            int at = curve.BinarySearch((d.DelayS, d.Model), Comparer<(double Delay, ModeMoments)>.Create((a, b) => a.Delay.CompareTo(b.Delay)));
+            if (at >= 0) curve[at] = (d.DelayS, d.Model);
+            else curve.Insert(~at, (d.DelayS, d.Model));
+        }
+        double[] t = axis.At(curve.Select(c => c.Delay));
+        double[] min = [.. curve.Select(c => Log(c.Moments.VarMin))], max = [.. curve.Select(c => Log(c.Moments.VarMax))];
         // An interval reaching zero or below (noise subtraction overshooting) is drawn down to the axis floor instead of
         // stretching the axis over decades.
         double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
@@ -41,7 +51,9 @@ public static class EstimatesPlot
         double hi = max.Max();
         void Series(double[] model, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
         {
-            var line = plot.Add.ScatterLine(t, model);
+            // Tens of thousands of rows drawn at screen resolution: the same envelope, a fraction of the drawing.
+            var (lx, ly) = Decimation.MinMax(t, model, VariancePlot.Columns);
+            var line = plot.Add.ScatterLine(lx, ly);
             line.Color = color;
             line.LineWidth = Figure.LineWidth;
             line.LegendText = $"{name}, model";

@@ -119,8 +119,11 @@ public static class RunAnalysis
                 stats = await sampler.RunAsync(stream.WriteAsync, shotProgress, cancel);
                 await stream.CommitAsync();
             }
-            shots = new SamplingOutput(sampler, [.. sampler.Delays.Select(d => ReadoutEstimator.Estimate(stats[d.Index], sampler.Chain.AddedNoise, d.Model,
-                Seeds.Derive(scenario.Seed, SeedStream.Bootstrap, d.Index), sampling.BootstrapResamples, sampling.Confidence))]);
+            // Each delay's bootstrap has its own seed, so the delays are estimated in parallel with the same numbers.
+            var estimates = new ReadoutEstimate[sampler.Delays.Length];
+            Parallel.For(0, estimates.Length, sampling.Parallel(cancel), k => estimates[k] = ReadoutEstimator.Estimate(stats[k],
+                sampler.Chain.AddedNoise, sampler.Delays[k].Model, Seeds.Derive(scenario.Seed, SeedStream.Bootstrap, k), sampling.BootstrapResamples, sampling.Confidence));
+            shots = new SamplingOutput(sampler, estimates);
         }
 
         TrajectoryOutput? trajectories = null;
