@@ -28,22 +28,31 @@ public static class EstimatesPlot
         double first = delays.Min(d => d.DelayS), last = delays.Max(d => d.DelayS);
         var axis = new TimeAxis(delays.Select(d => d.DelayS));
         int mode = evolution.ModeNames.IndexOf(sampler.Chain.Mode);
-        // The model curve: the covariance table's rows between the first and the last delay (in increasing time), and the
-        // exact model at each delay, which replaces a row at the same delay.
-        var curve = new List<(double Delay, ModeMoments Moments)>();
-        for (int k = 0; k < evolution.Times.Length; k++)
+        // The model curve: the covariance table's rows between the first and the last delay (one run of rows, as times
+        // increase), merged in order with the exact model at each delay, which replaces a row at the same delay.
+        var times = evolution.Times;
+        bool Shown(double delay) => delay >= first && delay <= last && (delay > 0 || !axis.Log);
+        int row = mode < 0 ? times.Length : 0;
+        while (row < times.Length && !Shown(times[row] - start)) row++;
+        int end = row;
+        while (end < times.Length && Shown(times[end] - start)) end++;
+        int count = 0;
+        var (t, min, max) = (new double[end - row + delays.Length], new double[end - row + delays.Length], new double[end - row + delays.Length]);
+        void Add(double delay, in ModeMoments m)
         {
-            double delay = evolution.Times[k] - start;
-            if (mode >= 0 && delay >= first && delay <= last && (delay > 0 || !axis.Log)) curve.Add((delay, evolution.Moments[k, mode]));
+            (t[count], min[count], max[count]) = (axis.At(delay), Log(m.VarMin), Log(m.VarMax));
+            count++;
         }
-        foreach (var d in delays)
+        double previous = double.NaN;
+        foreach (var d in delays.OrderBy(d => d.DelayS))
         {
-            int at = curve.BinarySearch((d.DelayS, d.Model), Comparer<(double Delay, ModeMoments)>.Create((a, b) => a.Delay.CompareTo(b.Delay)));
-            if (at >= 0) curve[at] = (d.DelayS, d.Model);
-            else curve.Insert(~at, (d.DelayS, d.Model));
+            for (; row < end && times[row] - start < d.DelayS; row++) Add(times[row] - start, evolution.Moments[row, mode]);
+            if (row < end && times[row] - start == d.DelayS) row++;
+            if (d.DelayS == previous) count--;
+            Add(previous = d.DelayS, d.Model);
         }
-        double[] t = axis.At(curve.Select(c => c.Delay));
-        double[] min = [.. curve.Select(c => Log(c.Moments.VarMin))], max = [.. curve.Select(c => Log(c.Moments.VarMax))];
+        for (; row < end; row++) Add(times[row] - start, evolution.Moments[row, mode]);
+        (t, min, max) = (t[..count], min[..count], max[..count]);
         // An interval reaching zero or below (noise subtraction overshooting) is drawn down to the axis floor instead of
         // stretching the axis over decades.
         double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
