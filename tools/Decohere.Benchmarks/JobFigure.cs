@@ -22,7 +22,10 @@ namespace Decohere.Benchmarks;
 /// </summary>
 public static class JobFigure
 {
-    /// <summary>Runs the figure: <c>figures job [--repeat N] [--native PATH] [--jit PATH.dll] [--python PATH]</c>.</summary>
+    /// <summary>
+    /// Runs the figure: <c>figures job [--repeat N] [--native PATH] [--jit PATH.dll] [--python PATH] [--baseline PATH]</c>,
+    /// the last an earlier native build to compare with, run in the same rounds.
+    /// </summary>
     public static void Run(int repeat, IReadOnlyDictionary<string, string> options)
     {
         string work = Path.Combine(Path.GetTempPath(), $"decohere-figures-{Environment.ProcessId}-job");
@@ -40,6 +43,8 @@ public static class JobFigure
             else Console.WriteLine($"no native build at {native} (dotnet publish -c Release src/Decohere.Cli, or --native PATH)");
             if (File.Exists(jit)) programs.Add(("decohere run, JIT", "dotnet", [jit, "run", scenario, "--out", Path.Combine(work, "jit")]));
             else Console.WriteLine($"no JIT build at {jit} (dotnet build -c Release src/Decohere.Cli, or --jit PATH)");
+            if (options.GetValueOrDefault("baseline") is { } baseline)
+                programs.Add(("decohere run, baseline", baseline, ["run", scenario, "--out", Path.Combine(work, "baseline")]));
             programs.Add(("numpy/scipy run_job.py", python, [script, scenario, Path.Combine(work, "numpy")]));
 
             var wall = programs.Select(_ => new List<double>()).ToArray();
