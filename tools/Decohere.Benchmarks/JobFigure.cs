@@ -169,11 +169,11 @@ public static class JobFigure
             Phase("covariance.parquet");
             EstimatesTable.WriteAsync(Path.Combine(dir, "estimates.parquet"), sampler, estimates, settings.Confidence, provenance).GetAwaiter().GetResult();
             Phase("estimates.parquet");
-            VariancePlot.Save(evolution, Path.Combine(dir, "variance"));
+            VariancePlot.Draw(evolution, Path.Combine(dir, "variance")).Write();
             Phase("variance.png/.svg");
-            EstimatesPlot.Save(evolution, sampler, estimates, Path.Combine(dir, "estimates"));
+            EstimatesPlot.Draw(evolution, sampler, estimates, Path.Combine(dir, "estimates")).Write();
             Phase("estimates.png/.svg");
-            IqPlot.Save(files.Histograms!, sampler, estimates, Path.Combine(dir, "iq"));
+            IqPlot.Draw(files.Histograms!, sampler, estimates, Path.Combine(dir, "iq")).Write();
             Phase("iq.png/.svg");
             var json = SummaryJson.Build(dynamics, check, provenance);
             json["readout"] = ReadoutSummary.Build(sampler, estimates, settings);

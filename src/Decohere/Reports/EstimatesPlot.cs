@@ -12,10 +12,6 @@ namespace Decohere.Reports;
 /// </summary>
 public static class EstimatesPlot
 {
-    /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
-    public static string[] Save(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
-        Draw(evolution, sampler, estimates, stem).Write();
-
     /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg.</summary>
     public static FigureOutput Draw(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
         new(new Multiplot(Build(evolution, sampler, estimates)), stem, Figure.Width, Figure.Height);

@@ -72,10 +72,6 @@ public sealed class IqHistograms : IRunStream<ShotBatch>
 /// </summary>
 public static class IqPlot
 {
-    /// <summary>Renders the figure to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
-    public static string[] Save(IqHistograms histograms, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
-        Draw(histograms, sampler, estimates, stem).Write();
-
     /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg.</summary>
     public static FigureOutput Draw(IqHistograms histograms, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem)
     {

@@ -95,7 +95,7 @@ public sealed class RunReport(RunFiles? files = null) : IReport<RunResult>
             throw;
         }
         SummaryJson.Write(json, summary);
-        // Paths in the order the files were written before they were written side by side.
+        // Paths in a fixed order: the table, the summary, then the other files in the order they were started.
         return [table, summary, .. writes.Skip(1).SelectMany(w => w.Result)];
     }
 }

@@ -89,7 +89,8 @@ public static class Figure
 public sealed record FigureOutput(Multiplot Plot, string Stem, int Width, int Height)
 {
     // The pixels ScottPlot's own PNG export draws (RGBA, premultiplied), encoded with the "up" row filter and zlib's fast
-    // level 3: the default (every filter tried on every row, level 6) took 50–70 ms of a figure's 80, for files a fifth smaller.
+    // level 3: about 10 ms for a 1200 × 720 figure, where the default (all five filters tried on every row, level 6) took
+    // 50–90 ms, more than drawing it, for files a quarter smaller.
     private static readonly SkiaSharp.SKPngEncoderOptions PngOptions = new(SkiaSharp.SKPngEncoderFilterFlags.Up, zLibLevel: 3);
 
     /// <summary>Writes the PNG, then the SVG; returns both paths.</summary>
