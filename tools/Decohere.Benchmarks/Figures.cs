@@ -15,7 +15,7 @@ namespace Decohere.Benchmarks;
 /// <summary>
 /// The figures a user waits for, each timed directly (one warm-up, then the median and best of several repetitions)
 /// and printed as one line: <c>dotnet run -c Release --project tools/Decohere.Benchmarks -- figures [NAME…]</c> with
-/// NAME among run, covariance, fit, sweep, shots, joint (all by default). tools/reference/*.py do the same work in numpy/scipy.
+/// NAME among run, covariance, fit, sweep, shots, joint, job (all by default). tools/reference/*.py do the same work in numpy/scipy.
 /// </summary>
 public static class Figures
 {
@@ -27,7 +27,11 @@ public static class Figures
         ["sweep"] = SweepGrid,
         ["shots"] = Shots,
         ["joint"] = JointFit,
+        ["job"] = repeat => JobFigure.Run(repeat, Options),
     };
+
+    // Options of one figure (`--native PATH` of job), by name without the dashes.
+    private static readonly Dictionary<string, string> Options = [];
 
     /// <summary>Runs the named figures (all when none are named) with <paramref name="args"/> such as <c>--repeat 5</c>.</summary>
     public static int Run(string[] args)
@@ -36,6 +40,7 @@ public static class Figures
         var names = new List<string>();
         for (int k = 0; k < args.Length; k++)
             if (args[k] == "--repeat") repeat = int.Parse(args[++k], CultureInfo.InvariantCulture);
+            else if (args[k].StartsWith("--", StringComparison.Ordinal)) Options[args[k][2..]] = args[++k];
             else names.Add(args[k]);
         foreach (var name in names.Count == 0 ? All.Keys.ToList() : names)
         {

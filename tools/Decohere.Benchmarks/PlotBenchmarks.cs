@@ -34,5 +34,5 @@ public class VariancePlotRender
     public void Png() => VariancePlot.Build(_evolution).SavePng(Path.Combine(_dir, "variance.png"), 1200, 720);
 
     [Benchmark(Description = "variance plot, 200,000 times: PNG + SVG")]
-    public string[] PngAndSvg() => VariancePlot.Save(_evolution, Path.Combine(_dir, "variance"));
+    public string[] PngAndSvg() => VariancePlot.Draw(_evolution, Path.Combine(_dir, "variance")).Write();
 }

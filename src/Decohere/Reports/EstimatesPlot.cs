@@ -12,9 +12,9 @@ namespace Decohere.Reports;
 /// </summary>
 public static class EstimatesPlot
 {
-    /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
-    public static string[] Save(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
-        Figure.Save(Build(evolution, sampler, estimates), stem);
+    /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg.</summary>
+    public static FigureOutput Draw(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem) =>
+        new(new Multiplot(Build(evolution, sampler, estimates)), stem, Figure.Width, Figure.Height);
 
     private static Plot Build(Evolution evolution, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates)
     {
@@ -24,16 +24,31 @@ public static class EstimatesPlot
         double first = delays.Min(d => d.DelayS), last = delays.Max(d => d.DelayS);
         var axis = new TimeAxis(delays.Select(d => d.DelayS));
         int mode = evolution.ModeNames.IndexOf(sampler.Chain.Mode);
-        // The model curve: the covariance table's rows between the first and the last delay, and the exact model at each delay.
-        var curve = new SortedDictionary<double, ModeMoments>();
-        for (int k = 0; k < evolution.Times.Length; k++)
+        // The model curve: the covariance table's rows between the first and the last delay (one run of rows, as times
+        // increase), merged in order with the exact model at each delay, which replaces a row at the same delay.
+        var times = evolution.Times;
+        bool Shown(double delay) => delay >= first && delay <= last && (delay > 0 || !axis.Log);
+        int row = mode < 0 ? times.Length : 0;
+        while (row < times.Length && !Shown(times[row] - start)) row++;
+        int end = row;
+        while (end < times.Length && Shown(times[end] - start)) end++;
+        int count = 0;
+        var (t, min, max) = (new double[end - row + delays.Length], new double[end - row + delays.Length], new double[end - row + delays.Length]);
+        void Add(double delay, in ModeMoments m)
         {
-            double delay = evolution.Times[k] - start;
-            if (mode >= 0 && delay >= first && delay <= last && (delay > 0 || !axis.Log)) curve[delay] = evolution.Moments[k, mode];
+            (t[count], min[count], max[count]) = (axis.At(delay), Log(m.VarMin), Log(m.VarMax));
+            count++;
         }
-        foreach (var d in delays) curve[d.DelayS] = d.Model;
-        double[] t = axis.At(curve.Keys);
-        double[] min = [.. curve.Values.Select(m => Log(m.VarMin))], max = [.. curve.Values.Select(m => Log(m.VarMax))];
+        double previous = double.NaN;
+        foreach (var d in delays.OrderBy(d => d.DelayS))
+        {
+            for (; row < end && times[row] - start < d.DelayS; row++) Add(times[row] - start, evolution.Moments[row, mode]);
+            if (row < end && times[row] - start == d.DelayS) row++;
+            if (d.DelayS == previous) count--;
+            Add(previous = d.DelayS, d.Model);
+        }
+        for (; row < end; row++) Add(times[row] - start, evolution.Moments[row, mode]);
+        (t, min, max) = (t[..count], min[..count], max[..count]);
         // An interval reaching zero or below (noise subtraction overshooting) is drawn down to the axis floor instead of
         // stretching the axis over decades.
         double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
@@ -41,7 +56,9 @@ public static class EstimatesPlot
         double hi = max.Max();
         void Series(double[] model, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
         {
-            var line = plot.Add.ScatterLine(t, model);
+            // Tens of thousands of rows drawn at screen resolution: the same envelope, a fraction of the drawing.
+            var (lx, ly) = Decimation.MinMax(t, model, VariancePlot.Columns);
+            var line = plot.Add.ScatterLine(lx, ly);
             line.Color = color;
             line.LineWidth = Figure.LineWidth;
             line.LegendText = $"{name}, model";

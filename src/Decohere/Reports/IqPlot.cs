@@ -72,8 +72,8 @@ public sealed class IqHistograms : IRunStream<ShotBatch>
 /// </summary>
 public static class IqPlot
 {
-    /// <summary>Renders the figure to <paramref name="stem"/>.png and .svg; returns the paths.</summary>
-    public static string[] Save(IqHistograms histograms, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem)
+    /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg.</summary>
+    public static FigureOutput Draw(IqHistograms histograms, ShotSampler sampler, IReadOnlyList<ReadoutEstimate> estimates, string stem)
     {
         int n = sampler.Delays.Length, columns = Math.Min(n, 3), rows = (n + columns - 1) / columns;
         var delays = DisplayUnits.FormatAll([.. sampler.Delays.Select(d => d.DelayS)], Core.Dimension.Time);
@@ -113,7 +113,7 @@ public static class IqPlot
         multiplot.Reset(plots[0]);
         foreach (var p in plots.Skip(1)) multiplot.AddPlot(p);
         multiplot.Layout = new ScottPlot.MultiplotLayouts.Grid(rows, columns);
-        return Figure.Save(multiplot, stem, 480 * columns, 480 * rows);
+        return new FigureOutput(multiplot, stem, 480 * columns, 480 * rows);
     }
 
     // The 1σ ellipse {μ + L·(cos θ, sin θ)} of a covariance C = L·Lᵀ (Cholesky factor L).

@@ -1,6 +1,7 @@
 using System.Text.Json.Nodes;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
+using Decohere.Reports.Plotting;
 using Decohere.Sampling;
 
 namespace Decohere.Reports;
@@ -20,31 +21,82 @@ public sealed class RunReport(RunFiles? files = null) : IReport<RunResult>
         var provenance = result.Provenance;
         string table = Path.Combine(directory, "covariance.parquet");
         string summary = Path.Combine(directory, "summary.json");
-        await CovarianceTable.WriteAsync(result.Evolution, table, provenance, cancel);
-        cancel.ThrowIfCancellationRequested();
-        var paths = new List<string> { table, summary };
-        paths.AddRange(VariancePlot.Save(result.Evolution, Path.Combine(directory, "variance")));
-        var json = SummaryJson.Build(result.Dynamics, result.Check, provenance);
-
-        if (result.Sampling is { } sampling)
+        var settings = result.Settings.Sampler ?? SamplerSettings.Default;
+        var sampling = result.Sampling;
+        // The tables and each figure depend on the result alone: they are written side by side (each atomically, into
+        // files of its own), which on two cores hides the tables behind the plots. A failure in one stops the others at
+        // their next check; summary.json, which describes them all, is written only once every one is complete.
+        using var failed = CancellationTokenSource.CreateLinkedTokenSource(cancel);
+        Task<string[]> Side(Func<CancellationToken, Task<string[]>> write) => Task.Run(async () =>
         {
-            var settings = result.Settings.Sampler ?? SamplerSettings.Default;
-            string estimates = Path.Combine(directory, "estimates.parquet");
-            await EstimatesTable.WriteAsync(estimates, sampling.Sampler, sampling.Estimates, settings.Confidence, provenance, cancel);
-            cancel.ThrowIfCancellationRequested();
-            paths.Add(estimates);
-            paths.AddRange(EstimatesPlot.Save(result.Evolution, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "estimates")));
-            if (files?.Histograms is { } histograms)
-                paths.AddRange(IqPlot.Save(histograms, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "iq")));
-            json["readout"] = ReadoutSummary.Build(sampling.Sampler, sampling.Estimates, settings);
+            try
+            {
+                return await write(failed.Token);
+            }
+            catch
+            {
+                await failed.CancelAsync();
+                throw;
+            }
+        }, failed.Token);
+        // Each figure's PNG is drawn at once, its SVG after the SVG of the figure before (see FigureOutput), so the bytes of
+        // every file are those of one figure after the other.
+        Task svgs = Task.CompletedTask;
+        Task<string[]> Drawn(Func<FigureOutput> draw)
+        {
+            var before = svgs;
+            var written = Side(async token =>
+            {
+                var drawing = draw();
+                string png = drawing.WritePng();
+                await Task.WhenAny(before);
+                token.ThrowIfCancellationRequested();
+                return [png, drawing.WriteSvg()];
+            });
+            svgs = written;
+            return written;
         }
+        var writes = new List<Task<string[]>>
+        {
+            Side(async token => { await CovarianceTable.WriteAsync(result.Evolution, table, provenance, token); return [table]; }),
+            Drawn(() => VariancePlot.Draw(result.Evolution, Path.Combine(directory, "variance"))),
+        };
+        if (sampling is not null)
+        {
+            string estimates = Path.Combine(directory, "estimates.parquet");
+            writes.Add(Side(async token =>
+            {
+                await EstimatesTable.WriteAsync(estimates, sampling.Sampler, sampling.Estimates, settings.Confidence, provenance, token);
+                return [estimates];
+            }));
+            writes.Add(Drawn(() => EstimatesPlot.Draw(result.Evolution, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "estimates"))));
+            if (files?.Histograms is { } histograms)
+                writes.Add(Drawn(() => IqPlot.Draw(histograms, sampling.Sampler, sampling.Estimates, Path.Combine(directory, "iq"))));
+        }
+        var json = SummaryJson.Build(result.Dynamics, result.Check, provenance);
+        if (sampling is not null) json["readout"] = ReadoutSummary.Build(sampling.Sampler, sampling.Estimates, settings);
         // The run's warnings: the check's and the estimates' (an uncertainty-relation violation names its delay).
         json["warnings"] = SummaryJson.Strings(result.Warnings);
         if (result.Trajectories is { } t)
             json["trajectories"] = new JsonObject { ["count"] = t.Count, ["times"] = t.Times, ["seed"] = result.Scenario.Seed };
-        cancel.ThrowIfCancellationRequested();
+        try
+        {
+            await Task.WhenAll(writes);
+        }
+        catch when (cancel.IsCancellationRequested)
+        {
+            cancel.ThrowIfCancellationRequested();
+            throw;
+        }
+        catch when (writes.FirstOrDefault(w => w.IsFaulted) is { } first)
+        {
+            // The failure itself, not the cancellations it caused in the other writers.
+            System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(first.Exception!.InnerException!);
+            throw;
+        }
         SummaryJson.Write(json, summary);
-        return paths;
+        // Paths in a fixed order: the table, the summary, then the other files in the order they were started.
+        return [table, summary, .. writes.Skip(1).SelectMany(w => w.Result)];
     }
 }
 

@@ -15,8 +15,8 @@ public static class VariancePlot
     /// <summary>Pixel columns of the data area the series are reduced to (about the figure's width).</summary>
     public const int Columns = Figure.Width;
 
-    /// <summary>Renders the plot to <paramref name="stem"/>.png and .svg, each written atomically; returns the paths.</summary>
-    public static string[] Save(Evolution evolution, string stem) => Figure.Save(Build(evolution), stem);
+    /// <summary>The figure, ready to write to <paramref name="stem"/>.png and .svg (each atomically).</summary>
+    public static FigureOutput Draw(Evolution evolution, string stem) => new(new Multiplot(Build(evolution)), stem, Figure.Width, Figure.Height);
 
     /// <summary>The figure (exposed for benchmarks).</summary>
     public static Plot Build(Evolution evolution)

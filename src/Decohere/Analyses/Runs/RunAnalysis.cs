@@ -97,7 +97,9 @@ public static class RunAnalysis
         long started = Stopwatch.GetTimestamp();
         var sampling = settings.Sampler ?? SamplerSettings.Default;
         var dynamics = Dynamics.Solve(scenario);
-        var evolution = Evolution.Run(dynamics);
+        // The covariance table's walk through its grid is one thread's work and the shots need only the states at the
+        // delays: on two cores the shots and their estimates are drawn while the grid is walked.
+        var walk = Task.Run(() => Evolution.Run(dynamics), cancel);
         var check = ScenarioReport.Of(dynamics);
         var provenance = Provenance.For(scenario);
         cancel.ThrowIfCancellationRequested();
@@ -119,9 +121,14 @@ public static class RunAnalysis
                 stats = await sampler.RunAsync(stream.WriteAsync, shotProgress, cancel);
                 await stream.CommitAsync();
             }
-            shots = new SamplingOutput(sampler, [.. sampler.Delays.Select(d => ReadoutEstimator.Estimate(stats[d.Index], sampler.Chain.AddedNoise, d.Model,
-                Seeds.Derive(scenario.Seed, SeedStream.Bootstrap, d.Index), sampling.BootstrapResamples, sampling.Confidence))]);
+            // Each delay's bootstrap has its own seed, so the delays are estimated in parallel with the same numbers.
+            var estimates = new ReadoutEstimate[sampler.Delays.Length];
+            Parallel.For(0, estimates.Length, sampling.Parallel(cancel), k => estimates[k] = ReadoutEstimator.Estimate(stats[k],
+                sampler.Chain.AddedNoise, sampler.Delays[k].Model, Seeds.Derive(scenario.Seed, SeedStream.Bootstrap, k), sampling.BootstrapResamples, sampling.Confidence));
+            shots = new SamplingOutput(sampler, estimates);
         }
+
+        var evolution = await walk;
 
         TrajectoryOutput? trajectories = null;
         if (settings.Trajectories > 0)

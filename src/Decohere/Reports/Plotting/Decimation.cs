@@ -8,12 +8,12 @@ namespace Decohere.Reports.Plotting;
 public static class Decimation
 {
     /// <summary>The decimated series for <paramref name="columns"/> columns across the x range of the data; x must be non-decreasing.</summary>
-    public static (double[] X, double[] Y) MinMax(IReadOnlyList<double> x, IReadOnlyList<double> y, int columns)
+    public static (double[] X, double[] Y) MinMax(ReadOnlySpan<double> x, ReadOnlySpan<double> y, int columns)
     {
         ArgumentOutOfRangeException.ThrowIfLessThan(columns, 1);
-        if (x.Count != y.Count) throw new ArgumentException("x and y differ in length", nameof(y));
-        int n = x.Count;
-        if (n <= 2 * columns + 2) return ([.. x], [.. y]);
+        if (x.Length != y.Length) throw new ArgumentException("x and y differ in length", nameof(y));
+        int n = x.Length;
+        if (n <= 2 * columns + 2) return (x.ToArray(), y.ToArray());
         double x0 = x[0], width = (x[n - 1] - x0) / columns;
         var keep = new List<int>(2 * columns + 2) { 0 };
         int start = 0;
@@ -33,6 +33,8 @@ public static class Decimation
             start = k;
         }
         if (keep[^1] != n - 1) keep.Add(n - 1);
-        return ([.. keep.Select(i => x[i])], [.. keep.Select(i => y[i])]);
+        var (dx, dy) = (new double[keep.Count], new double[keep.Count]);
+        for (int k = 0; k < keep.Count; k++) (dx[k], dy[k]) = (x[keep[k]], y[keep[k]]);
+        return (dx, dy);
     }
 }

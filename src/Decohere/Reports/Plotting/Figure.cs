@@ -74,20 +74,52 @@ public static class Figure
     }
 
     /// <summary>Writes the plot as <paramref name="stem"/>.png and .svg; returns both paths.</summary>
-    public static string[] Save(Plot plot, string stem, int width = Width, int height = Height)
-    {
-        var multiplot = new Multiplot(plot);
-        return Save(multiplot, stem, width, height);
-    }
+    public static string[] Save(Plot plot, string stem, int width = Width, int height = Height) =>
+        new FigureOutput(new Multiplot(plot), stem, width, height).Write();
 
     /// <summary>Writes a (multi-panel) figure as PNG and SVG; returns both paths.</summary>
-    public static string[] Save(Multiplot multiplot, string stem, int width, int height)
+    public static string[] Save(Multiplot multiplot, string stem, int width, int height) => new FigureOutput(multiplot, stem, width, height).Write();
+}
+
+/// <summary>
+/// A figure ready to be written as <c>Stem.png</c> and <c>Stem.svg</c>, each atomically. The two files can be written
+/// apart (the PNG of one figure while another's SVG is written), but Skia numbers the clip paths of every SVG in one
+/// count per process, so an SVG's bytes depend on the SVGs drawn before it: write SVGs one at a time, in a fixed order.
+/// </summary>
+public sealed record FigureOutput(Multiplot Plot, string Stem, int Width, int Height)
+{
+    // The pixels ScottPlot's own PNG export draws (RGBA, premultiplied), encoded with the "up" row filter and zlib's fast
+    // level 3: about 10 ms for a 1200 × 720 figure, where the default (all five filters tried on every row, level 6) took
+    // 50–90 ms, more than drawing it, for files a quarter smaller.
+    private static readonly SkiaSharp.SKPngEncoderOptions PngOptions = new(SkiaSharp.SKPngEncoderFilterFlags.Up, zLibLevel: 3);
+
+    /// <summary>Writes the PNG, then the SVG; returns both paths.</summary>
+    public string[] Write() => [WritePng(), WriteSvg()];
+
+    /// <summary>Writes <c>Stem.png</c>; returns its path.</summary>
+    public string WritePng()
     {
-        string png = stem + ".png", svg = stem + ".svg";
-        AtomicFile.Write(png, tmp => multiplot.SavePng(tmp, width, height));
+        string png = Stem + ".png";
+        AtomicFile.Write(png, tmp =>
+        {
+            using var surface = SkiaSharp.SKSurface.Create(new SkiaSharp.SKImageInfo(Width, Height, SkiaSharp.SKColorType.Rgba8888, SkiaSharp.SKAlphaType.Premul));
+            Plot.Render(surface);
+            using var image = surface.Snapshot();
+            using var pixels = image.PeekPixels() ?? throw new InvalidOperationException("the rendered figure has no pixels to encode");
+            using var data = pixels.Encode(PngOptions) ?? throw new InvalidOperationException("the figure could not be encoded as PNG");
+            using var stream = File.Create(tmp);
+            data.SaveTo(stream);
+        });
+        return png;
+    }
+
+    /// <summary>Writes <c>Stem.svg</c>; returns its path.</summary>
+    public string WriteSvg()
+    {
+        string svg = Stem + ".svg";
         // Skia's SVG backend cannot draw dash patterns (it prints a complaint instead of drawing): in the SVG, patterned
         // lines are drawn solid and thinner, then restored.
-        var patterned = multiplot.GetPlots().SelectMany(p => p.GetPlottables()).OfType<IHasLine>()
+        var patterned = Plot.GetPlots().SelectMany(p => p.GetPlottables()).OfType<IHasLine>()
             .Where(l => l.LinePattern.Name != LinePattern.Solid.Name).Select(l => (Line: l, l.LinePattern, l.LineWidth)).ToArray();
         foreach (var (line, _, width0) in patterned)
         {
@@ -99,8 +131,8 @@ public static class Figure
             AtomicFile.Write(svg, tmp =>
             {
                 using (var stream = File.Create(tmp))
-                using (var canvas = SkiaSharp.SKSvgCanvas.Create(new SkiaSharp.SKRect(0, 0, width, height), stream))
-                    multiplot.Render(canvas, new PixelRect(0, width, height, 0));
+                using (var canvas = SkiaSharp.SKSvgCanvas.Create(new SkiaSharp.SKRect(0, 0, Width, Height), stream))
+                    Plot.Render(canvas, new PixelRect(0, Width, Height, 0));
             });
         }
         finally
@@ -111,7 +143,7 @@ public static class Figure
                 line.LineWidth = width0;
             }
         }
-        return [png, svg];
+        return svg;
     }
 }
 
