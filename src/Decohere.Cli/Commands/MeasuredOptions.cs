@@ -10,11 +10,12 @@ namespace Decohere.Cli.Commands;
 /// </summary>
 public sealed class MeasuredOptions
 {
-    /// <summary>--fitted fit.json, repeatable.</summary>
-    public Option<FileInfo[]> Fitted { get; } = new("--fitted")
+    /// <summary>--fitted fit.json or joint-fit.json[:SET], repeatable.</summary>
+    public Option<string[]> Fitted { get; } = new("--fitted")
     {
-        Description = "fit.json of an earlier fit: its fitted values (bath, damping, added noise, by path) replace the scenario's, " +
-            "and their standard errors and correlations are carried into the result. Repeatable (a parameter may come from one file only).",
+        Description = "fit.json of an earlier fit, or joint-fit.json (FILE:SET for one data set's values): its fitted values (bath, damping, " +
+            "added noise, by path) replace the scenario's, and their standard errors and correlations are carried into the result. " +
+            "Repeatable (a parameter may come from one file only).",
         Arity = ArgumentArity.ZeroOrMore,
         AllowMultipleArgumentsPerToken = false,
     };
@@ -34,7 +35,7 @@ public sealed class MeasuredOptions
     public MeasuredValues Read(ParseResult parse)
     {
         var values = MeasuredValues.None;
-        foreach (var file in parse.GetValue(Fitted) ?? []) values = values.And(FitResultFile.Read(file.FullName));
+        foreach (var file in parse.GetValue(Fitted) ?? []) values = values.And(FitResultFile.Read(file));
         if (parse.GetValue(Calibration) is { } calibration) values = values.And(CalibrationFile.Read(calibration.FullName).AddedNoiseValue());
         return values;
     }

@@ -32,17 +32,18 @@ public static class RunCommand
         };
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
+        var measured = new MeasuredOptions();
         var command = new Command("run",
             "Evolve the scenario's Gaussian state exactly and write covariance.parquet, summary.json and variance.png/.svg; " +
             "with a readout, also sample shots (shots.parquet) and write the per-delay estimates (estimates.parquet, estimates.png/.svg, iq.png/.svg).")
         {
             scenario, output, format, seed, trajectories, quiet,
         };
-        foreach (var option in limits.All) command.Options.Add(option);
+        foreach (var option in limits.All.Concat(measured.All)) command.Options.Add(option);
         var flags = new Dictionary<string, string> { ["trajectories"] = "--trajectories" };
         command.SetAction((parse, cancel) => Cli.Guard(console, flags, async () =>
         {
-            var s = Cli.Load(parse.GetValue(scenario));
+            var s = measured.Read(parse).Apply(Cli.Load(parse.GetValue(scenario)));
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
             var settings = new RunSettings(parse.GetValue(trajectories));
             settings.Validate();

@@ -37,14 +37,15 @@ public static class SweepCommand
         var format = Cli.FormatOption();
         var quiet = Cli.QuietOption();
         var limits = new Cli.LimitOptions();
+        var measured = new MeasuredOptions();
         var command = new Command("sweep", "Evaluate metrics (steady squeezing, stability, occupancy, resolution probability, …) over a grid of parameters; write sweep.parquet and sweep.png.")
         {
             scenario, vary, zip, metrics, shard, resume, seed, threads, output, format, quiet,
         };
-        foreach (var option in limits.All) command.Options.Add(option);
+        foreach (var option in limits.All.Concat(measured.All)) command.Options.Add(option);
         command.SetAction((parse, cancel) => Cli.Guard(console, Flags, async () =>
         {
-            var s = Cli.Load(parse.GetValue(scenario));
+            var s = measured.Read(parse).Apply(Cli.Load(parse.GetValue(scenario)));
             if (parse.GetValue(seed) is { } newSeed) s = s with { Seed = newSeed };
             var sweep = Sweep.Parse(s, parse.GetValue(vary) ?? [], parse.GetValue(zip), parse.GetValue(metrics));
             var settings = new SweepSettings

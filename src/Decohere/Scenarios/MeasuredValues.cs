@@ -59,10 +59,14 @@ public sealed class MeasuredValues
         return new([.. Values, .. other.Values], r);
     }
 
-    /// <summary>The scenario with every value set.</summary>
+    /// <summary>
+    /// The scenario with every value set. Its source text gains a comment listing them (and so a new hash), so that every
+    /// output's provenance records what the scenario file alone does not say.
+    /// </summary>
     /// <exception cref="InputException">A path is not a parameter of the scenario, or a value is out of its range; the message names the source.</exception>
     public Scenario Apply(Scenario scenario)
     {
+        if (Values.IsEmpty) return scenario;
         foreach (var v in Values)
         {
             try
@@ -74,7 +78,8 @@ public sealed class MeasuredValues
                 throw new InputException($"measured values from {v.Source}: {e.Message}");
             }
         }
-        return scenario;
+        string text = scenario.SourceText.TrimEnd('\n') + "\n# measured values applied (SI units):\n" + string.Concat(Describe().Select(line => $"#   {line}\n"));
+        return scenario with { SourceText = text, SourceHash = ScenarioLoader.Hash(text) };
     }
 
     /// <summary>

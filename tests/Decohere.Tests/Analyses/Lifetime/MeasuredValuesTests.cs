@@ -61,4 +61,28 @@ public class MeasuredValuesTests
         Assert.Contains("other.json", Assert.Throws<InputException>(() => stray.Apply(ScenarioLoader.Demo())).Message);
         Assert.Throws<InputException>(() => FitResultFile.Read(path + ".missing"));
     }
+
+    [Fact]
+    public void JointFitValuesTakeTheErrorsOfTheParametersTheyWereSetFrom()
+    {
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "joint-fit.json");
+        File.WriteAllText(path, """
+            { "parameters": { "gamma": { "value": 9.9, "stderr": 0.1 }, "n_a": { "value": 40, "stderr": 2 }, "n_b": { "value": 44, "stderr": 3 } },
+              "correlation": { "parameters": ["gamma", "n_a", "n_b"], "matrix": [[1, 0.3, 0], [0.3, 1, 0], [0, 0, 1]] },
+              "data_sets": {
+                "heating": { "set": { "modes.drum.linewidth": "gamma", "modes.drum.bath.occupancy": "n_a" },
+                             "scenario_values": { "modes.drum.linewidth": { "value": 9.9 }, "modes.drum.bath.occupancy": { "value": 40 } } },
+                "ringdown": { "set": { "linewidth": "gamma" } },
+                "cooling": { "set": { "modes.drum.linewidth": "gamma", "modes.drum.bath.occupancy": "n_b" },
+                             "scenario_values": { "modes.drum.linewidth": { "value": 9.9 }, "modes.drum.bath.occupancy": { "value": 44 } } } } }
+            """);
+        // Two data sets fit the bath with different parameters: the file alone is ambiguous, a data set is not.
+        Assert.Contains(":SET", Assert.Throws<InputException>(() => FitResultFile.Read(path)).Message);
+        var heating = FitResultFile.Read(path + ":heating");
+        Assert.Equal(["modes.drum.linewidth", "modes.drum.bath.occupancy"], heating.Values.Select(v => v.Path));
+        Assert.Equal([0.1, 2.0], heating.Values.Select(v => v.Sd));
+        Assert.Equal(0.3, heating.Correlation(0, 1));
+        Assert.Equal(3.0, FitResultFile.Read(path + ":cooling").Values[1].Sd);
+        Assert.Contains("data sets: heating, ringdown, cooling", Assert.Throws<InputException>(() => FitResultFile.Read(path + ":ringdown")).Message);
+    }
 }
