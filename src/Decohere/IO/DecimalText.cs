@@ -62,40 +62,41 @@ public static class DecimalText
     public static bool TryParse(ReadOnlySpan<byte> text, out double value)
     {
         value = 0;
-        int i = 0, n = text.Length;
+        int i = 0;
         bool negative = false;
-        if (i < n && (text[i] == '-' || text[i] == '+')) negative = text[i++] == '-';
+        if ((uint)i < (uint)text.Length && (text[i] == '-' || text[i] == '+')) negative = text[i++] == '-';
+        // Leading zeros are not significant; the first 19 significant digits fit a ulong, more are left to the general parser.
+        int first = i;
+        while ((uint)i < (uint)text.Length && text[i] == '0') i++;
+        int nonZero = i;
         ulong w = 0;
-        int digits = 0, significant = 0, fraction = 0;
-        for (; i < n && (uint)(text[i] - '0') <= 9; i++, digits++)
+        for (uint d; (uint)i < (uint)text.Length && (d = (uint)(text[i] - '0')) <= 9; i++) w = 10 * w + d;
+        int digits = i - first, fraction = 0, significant = i - nonZero;
+        if ((uint)i < (uint)text.Length && text[i] == '.')
         {
-            if (w == 0 && text[i] == '0') continue;
-            if (++significant > 19) return false;
-            w = 10 * w + (uint)(text[i] - '0');
+            int point = ++i;
+            if (significant == 0)
+                while ((uint)i < (uint)text.Length && text[i] == '0') i++;
+            int from = i;
+            for (uint d; (uint)i < (uint)text.Length && (d = (uint)(text[i] - '0')) <= 9; i++) w = 10 * w + d;
+            significant += i - from;
+            fraction = i - point;
+            digits += fraction;
         }
-        if (i < n && text[i] == '.')
-        {
-            for (i++; i < n && (uint)(text[i] - '0') <= 9; i++, digits++, fraction++)
-            {
-                if (w == 0 && text[i] == '0') continue;
-                if (++significant > 19) return false;
-                w = 10 * w + (uint)(text[i] - '0');
-            }
-        }
-        if (digits == 0) return false;
+        if (digits == 0 || significant > 19) return false;
         long exponent = 0;
-        if (i < n && (text[i] == 'e' || text[i] == 'E'))
+        if ((uint)i < (uint)text.Length && (text[i] == 'e' || text[i] == 'E'))
         {
             i++;
             bool down = false;
-            if (i < n && (text[i] == '-' || text[i] == '+')) down = text[i++] == '-';
+            if ((uint)i < (uint)text.Length && (text[i] == '-' || text[i] == '+')) down = text[i++] == '-';
             int start = i;
-            for (; i < n && (uint)(text[i] - '0') <= 9; i++)
+            for (; (uint)i < (uint)text.Length && (uint)(text[i] - '0') <= 9; i++)
                 if (exponent < 100_000) exponent = 10 * exponent + (text[i] - '0');
             if (i == start) return false;
             if (down) exponent = -exponent;
         }
-        if (i != n) return false;
+        if (i != text.Length) return false;
         long q = exponent - fraction;
         if (w == 0)
         {
