@@ -21,7 +21,7 @@ public static class DecimalText
     private const int SmallestPower = -342, LargestPower = 308;
 
     // 5^q for q in [−342, 308], normalised to 128 bits with the top bit set: truncated for q ≥ 0, 2^b / 5^−q rounded up
-    // (plus one, then truncated) for q < 0, as Lemire (2021), sec. 5, builds it. Two words per power, high first.
+    // (plus one, then truncated) for q < 0, as in Lemire (2021). Two words per power, high first.
     private static readonly ulong[] PowersOfFive = BuildPowers();
 
     private static readonly double[] ExactPowersOfTen =
@@ -117,7 +117,7 @@ public static class DecimalText
         return true;
     }
 
-    // Lemire (2021), algorithm 1, for binary64: 52 explicit mantissa bits, exponent bias 1023.
+    // Lemire (2021) for binary64: 52 explicit mantissa bits, exponent bias 1023.
     private static bool TryEiselLemire(int q, ulong w, out ulong bits)
     {
         bits = 0;
@@ -136,7 +136,7 @@ public static class DecimalText
         int upper = (int)(high >> 63);
         int shift = upper + 64 - 52 - 3;
         ulong mantissa = high >> shift;
-        // floor(q·log2(10)) + 63 from a fixed-point log2(10) (Lemire 2021, sec. 5), exact over the table's range.
+        // floor(q·log2(10)) + 63 from a fixed-point log2(10) (Lemire 2021), exact over the table's range.
         int power2 = (((152170 + 65536) * q) >> 16) + 63 + upper - lz + 1023;
         if (power2 <= 0)
         {
