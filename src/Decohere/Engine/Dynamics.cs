@@ -76,7 +76,31 @@ public sealed class Dynamics
     public double EndS { get; }
 
     /// <summary>State at the start of each of the scenario's stages, plus the final state at index Scenario.Stages.Length.</summary>
-    public ImmutableArray<GaussianState> Boundaries { get; }
+    public ImmutableArray<GaussianState> Boundaries
+    {
+        get
+        {
+            if (_allBoundaries.IsDefault) _allBoundaries = [.. Enumerable.Range(0, _boundaries.Length).Select(Boundary)];
+            return _allBoundaries;
+        }
+    }
+
+    // Boundary states are propagated on first use, each from the one before, so they are the same whoever asks first; a
+    // fit whose delays end inside a stage never pays for the exponentials of the stage ends after them.
+    private readonly GaussianState?[] _boundaries;
+    private readonly Lock _boundaryLock = new();
+    private ImmutableArray<GaussianState> _allBoundaries;
+
+    private GaussianState Boundary(int i)
+    {
+        if (Volatile.Read(ref _boundaries[i]) is { } known) return known;
+        lock (_boundaryLock)
+        {
+            for (int k = 1; k <= i; k++)
+                if (_boundaries[k] is null) Volatile.Write(ref _boundaries[k], Propagate(_boundaries[k - 1]!, k - 1, Scenario.Stages[k - 1].DurationS));
+            return _boundaries[i]!;
+        }
+    }
 
     private Dynamics(Scenario scenario, bool continuePastEnd)
     {
@@ -109,13 +133,8 @@ public sealed class Dynamics
         if (continuePastEnd) StageStarts = StageStarts.Add(EndS);
         _steady = new GaussianState?[Stages.Length];
         _steadySolution = new LyapunovSolution?[Stages.Length];
-        Boundaries = [];
-        var initial = InitialStates.Build(scenario, this);
-        var boundaries = ImmutableArray.CreateBuilder<GaussianState>(scenario.Stages.Length + 1);
-        boundaries.Add(initial);
-        for (int i = 0; i < scenario.Stages.Length; i++)
-            boundaries.Add(Propagate(boundaries[i], i, scenario.Stages[i].DurationS));
-        Boundaries = boundaries.MoveToImmutable();
+        _boundaries = new GaussianState?[scenario.Stages.Length + 1];
+        _boundaries[0] = InitialStates.Build(scenario, this);
     }
 
     /// <summary>
@@ -253,9 +272,9 @@ public sealed class Dynamics
         {
             double t = times[k];
             int i = StageAt(t, Math.Max(stage, 0));
-            if (i < Boundaries.Length - 1 && !IsAfter(StageEnd(i), t))
+            if (i < Scenario.Stages.Length && !IsAfter(StageEnd(i), t))
             {
-                Load(Boundaries[i + 1], v, mean);
+                Load(Boundary(i + 1), v, mean);
                 (stage, hi, lo) = (i + 1, StageEnd(i), 0);
                 // The end state of stage i is the start state of stage i + 1; a later time in stage i cannot follow.
                 if (i + 1 == Stages.Length) stage = i;
@@ -264,7 +283,7 @@ public sealed class Dynamics
             {
                 if (i != stage)
                 {
-                    Load(Boundaries[i], v, mean);
+                    Load(Boundary(i), v, mean);
                     (stage, hi, lo) = (i, StageStarts[i], 0);
                 }
                 double gap = (t - hi) - lo;

@@ -1,5 +1,8 @@
+using Microsoft.Win32.SafeHandles;
 using ParquetSharp;
 using System.Globalization;
+using System.Runtime.CompilerServices;
+using Encoding = System.Text.Encoding;
 using Decohere.Core;
 
 namespace Decohere.IO;
@@ -171,27 +174,36 @@ public sealed class DataTable
     private static ColumnSelection Select(ColumnSelector? select, IReadOnlyList<string> names, long rows) =>
         select?.Invoke(names, rows) ?? new ColumnSelection(names, []);
 
-    // Two passes: the first counts the data rows (no field is parsed), so each selected column is allocated once at its
-    // final size; the second parses the selected fields in place.
+    // Files below this size are parsed on one thread: a second part would cost more to start than it saves.
+    private const long ParallelBytes = 1 << 20;
+
+    // Two passes over the bytes: the first counts the data rows (no field is parsed), so each selected column is allocated
+    // once at its final size, and marks line starts that cut the file into parts of about equal size; the second parses
+    // the parts in parallel, each into its own rows of the columns, and joins what they found in file order.
     private static DataTable LoadCsv(string path, string name, ColumnSelector? select, CancellationToken cancel)
     {
+        using var source = CsvBytes.Open(path);
+        int partCount = source.Length >= ParallelBytes ? Math.Clamp(Environment.ProcessorCount, 1, 8) : 1;
+        var cuts = new List<(long Offset, long Row, int Line)>();
         string[] names;
-        int headerLine;
         long rows = 0;
-        using (var lines = new LineReader(path, name))
         {
-            ReadOnlySpan<char> text = default;
+            var lines = new ByteLines(source, source.Start, source.Length, name, 0);
+            ReadOnlySpan<byte> text = default;
             while (lines.Next(out text) && !IsData(text)) { }
             if (!IsData(text)) throw new InputException($"{name}: the file is empty; expected a header row of column names");
-            headerLine = lines.Line;
-            names = [.. Split(text.ToString()).Select(c => c.Trim())];
+            names = [.. Split(Encoding.UTF8.GetString(text)).Select(c => c.Trim())];
             var duplicate = names.GroupBy(n => n).FirstOrDefault(g => g.Count() > 1);
-            if (duplicate is not null) throw new InputException($"{name} line {headerLine}: column '{duplicate.Key}' appears twice in the header");
-            while (lines.Next(out text))
+            if (duplicate is not null) throw new InputException($"{name} line {lines.Line}: column '{duplicate.Key}' appears twice in the header");
+            cuts.Add((lines.Position, 0, lines.Line));
+            while (true)
             {
+                if (cuts.Count < partCount && lines.Position >= source.Length * cuts.Count / partCount) cuts.Add((lines.Position, rows, lines.Line));
+                if (!lines.Next(out text)) break;
                 if (IsData(text)) rows++;
                 if ((lines.Line & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
             }
+            cuts.Add((source.Length, rows, 0));
         }
         if (rows == 0) throw new InputException($"{name}: no data rows after the header");
         if (rows > int.MaxValue) throw new InputException($"{name}: {rows} data rows; at most {int.MaxValue} rows are read (aggregate shots into variances per delay)");
@@ -204,45 +216,117 @@ public sealed class DataTable
             if (selection.Numbers.Contains(names[c])) table._numbers[names[c]] = numbers[c] = new NumberColumn((int)rows);
             else if (selection.Texts.Contains(names[c])) table._texts[names[c]] = texts[c] = new TextColumn((int)rows);
         }
-        using var reader = new LineReader(path, name);
-        while (reader.Line < headerLine && reader.Next(out _)) { }
-        int r = 0, previous = headerLine;
-        while (reader.Next(out var text))
+        // Part 0 fills the table's own columns; the others keep their problems, breaks and text values apart until joined.
+        var parts = new CsvPart[cuts.Count - 1];
+        for (int k = 0; k < parts.Length; k++)
+            parts[k] = k == 0 ? new CsvPart(numbers, texts, table._breaks)
+                : new CsvPart([.. numbers.Select(n => n?.Part())], [.. texts.Select(t => t?.Part())], []);
+        var failures = new Exception?[parts.Length];
+        System.Threading.Tasks.Parallel.For(0, parts.Length, k =>
+        {
+            try { ParsePart(source, name, names, cuts[k], cuts[k + 1], parts[k], cancel); }
+            catch (Exception e) { failures[k] = e; }
+        });
+        cancel.ThrowIfCancellationRequested();
+        // The first failure in file order, as one reader going through the file would have met it.
+        if (failures.FirstOrDefault(e => e is not null) is { } failure) System.Runtime.ExceptionServices.ExceptionDispatchInfo.Throw(failure);
+        for (int k = 1; k < parts.Length; k++)
+        {
+            table._breaks.AddRange(parts[k].Breaks);
+            for (int c = 0; c < names.Length; c++)
+            {
+                numbers[c]?.Absorb(parts[k].Numbers[c]!);
+                texts[c]?.Absorb(parts[k].Texts[c]!, (int)cuts[k].Row, (int)cuts[k + 1].Row);
+            }
+        }
+        return table;
+    }
+
+    /// <summary>The columns one part of a CSV writes into (sharing the table's arrays) and the line breaks it met.</summary>
+    private sealed record CsvPart(NumberColumn?[] Numbers, TextColumn?[] Texts, List<(int Row, int Line)> Breaks);
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void ParsePart(CsvBytes source, string name, string[] names, (long Offset, long Row, int Line) from, (long Offset, long Row, int Line) to,
+        CsvPart part, CancellationToken cancel)
+    {
+        var (numbers, texts, breaks) = part;
+        int columns = names.Length;
+        var lines = new ByteLines(source, from.Offset, to.Offset, name, from.Line);
+        int r = (int)from.Row, end = (int)to.Row, previous = from.Line;
+        while (lines.Next(out var text))
         {
             if (!IsData(text)) continue;
-            if (r == rows) throw new InputException($"{name}: the file changed while it was read");
-            if (reader.Line != previous + 1 || r == 0) table._breaks.Add((r, reader.Line));
-            previous = reader.Line;
+            if (r == end) throw new InputException($"{name}: the file changed while it was read");
+            if (lines.Line != previous + 1 || r == from.Row) breaks.Add((r, lines.Line));
+            previous = lines.Line;
             if ((r & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
-            if (text.Contains('"'))
+            if (text.Contains((byte)'"'))
             {
                 // Quoted fields (rare in numeric files) go through the general splitter.
-                var fields = Split(text.ToString());
-                if (fields.Count != names.Length) throw FieldCount(name, reader.Line, fields.Count, names);
-                for (int c = 0; c < names.Length; c++) Store(numbers[c], texts[c], fields[c].AsSpan().Trim(), r);
+                var fields = Split(Encoding.UTF8.GetString(text));
+                if (fields.Count != columns) throw FieldCount(name, lines.Line, fields.Count, names);
+                for (int c = 0; c < columns; c++) Store(numbers[c], texts[c], fields[c].AsSpan().Trim(), r);
             }
             else
             {
                 var rest = text;
-                for (int c = 0; c < names.Length; c++)
+                for (int c = 0; c < columns; c++)
                 {
-                    int comma = rest.IndexOf(',');
-                    if ((comma < 0) != (c == names.Length - 1)) throw FieldCount(name, reader.Line, text.Count(',') + 1, names);
-                    var field = comma < 0 ? rest : rest[..comma];
-                    Store(numbers[c], texts[c], field.Trim(), r);
+                    int comma = rest.IndexOf((byte)',');
+                    if ((comma < 0) != (c == columns - 1)) throw FieldCount(name, lines.Line, text.Count((byte)',') + 1, names);
+                    Store(numbers[c], texts[c], comma < 0 ? rest : rest[..comma], r);
                     if (comma >= 0) rest = rest[(comma + 1)..];
                 }
             }
             r++;
         }
-        if (r != rows) throw new InputException($"{name}: the file changed while it was read");
-        return table;
+        if (r != end) throw new InputException($"{name}: the file changed while it was read");
     }
+
+    // char.IsWhiteSpace on the ASCII range, so trimming bytes trims what trimming the decoded text would.
+    private static readonly bool[] AsciiWhite = [.. Enumerable.Range(0, 128).Select(c => char.IsWhiteSpace((char)c))];
 
     private static bool IsData(ReadOnlySpan<char> line)
     {
         var t = line.TrimStart();
         return t.Length > 0 && t[0] != '#';
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static bool IsData(ReadOnlySpan<byte> line)
+    {
+        int i = 0;
+        while (i < line.Length && line[i] < 128 && AsciiWhite[line[i]]) i++;
+        if (i == line.Length) return false;
+        // A line that starts with a non-ASCII character may start with Unicode white space.
+        return line[i] < 128 ? line[i] != '#' : IsData(Encoding.UTF8.GetString(line[i..]).AsSpan());
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static ReadOnlySpan<byte> TrimAscii(ReadOnlySpan<byte> field)
+    {
+        int a = 0, b = field.Length;
+        while (a < b && field[a] < 128 && AsciiWhite[field[a]]) a++;
+        while (b > a && field[b - 1] < 128 && AsciiWhite[field[b - 1]]) b--;
+        return field[a..b];
+    }
+
+    // Plain decimal numbers parse straight from the bytes; anything else is decoded and read as before, so the values and
+    // the messages are those of double.TryParse on the trimmed text.
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    private static void Store(NumberColumn? number, TextColumn? text, ReadOnlySpan<byte> field, int r)
+    {
+        if (number is null && text is null) return;
+        if (number is not null && DecimalText.TryParse(TrimAscii(field), out double v))
+        {
+            number.Values[r] = v;
+            return;
+        }
+        if (text is not null && text.Repeats(field, r)) return;
+        Span<char> chars = field.Length <= 256 ? stackalloc char[256] : new char[field.Length];
+        int count = Encoding.UTF8.GetChars(field, chars);
+        Store(number, text, chars[..count].Trim(), r);
+        text?.Remember(field, r);
     }
 
     private static InputException FieldCount(string name, int line, int fields, string[] names) =>
@@ -284,26 +368,75 @@ public sealed class DataTable
         return fields;
     }
 
-    /// <summary>Lines of a text file as spans of one reused buffer (CR, LF or CR LF end a line, as in <see cref="TextReader.ReadLine"/>).</summary>
-    private sealed class LineReader(string path, string name) : IDisposable
+    /// <summary>
+    /// The bytes of a CSV as UTF-8, read at explicit offsets so that several readers can share one file. A UTF-8 byte order
+    /// mark is skipped; a file with a UTF-16 or UTF-32 one is decoded as StreamReader would and held as UTF-8 in memory.
+    /// </summary>
+    private sealed class CsvBytes : IDisposable
+    {
+        private readonly SafeFileHandle? _file;
+        private readonly byte[]? _memory;
+
+        private CsvBytes(SafeFileHandle? file, byte[]? memory, long start, long length) => (_file, _memory, Start, Length) = (file, memory, start, length);
+
+        /// <summary>Offset of the first character.</summary>
+        public long Start { get; }
+
+        /// <summary>Length in bytes.</summary>
+        public long Length { get; }
+
+        public static CsvBytes Open(string path)
+        {
+            var file = File.OpenHandle(path);
+            Span<byte> head = stackalloc byte[4];
+            head = head[..RandomAccess.Read(file, head, 0)];
+            if (head.StartsWith((ReadOnlySpan<byte>)[0xEF, 0xBB, 0xBF])) return new(file, null, 3, RandomAccess.GetLength(file));
+            if (!head.StartsWith((ReadOnlySpan<byte>)[0xFE, 0xFF]) && !head.StartsWith((ReadOnlySpan<byte>)[0xFF, 0xFE]) && !head.SequenceEqual((ReadOnlySpan<byte>)[0, 0, 0xFE, 0xFF]))
+                return new(file, null, 0, RandomAccess.GetLength(file));
+            file.Dispose();
+            var bytes = Encoding.UTF8.GetBytes(File.ReadAllText(path));
+            return new(null, bytes, 0, bytes.Length);
+        }
+
+        /// <summary>Fills <paramref name="buffer"/> from <paramref name="offset"/>; the count read, 0 at the end.</summary>
+        public int Read(Span<byte> buffer, long offset)
+        {
+            if (_file is not null) return RandomAccess.Read(_file, buffer, offset);
+            int count = (int)Math.Clamp(_memory!.Length - offset, 0, buffer.Length);
+            _memory.AsSpan((int)offset, count).CopyTo(buffer);
+            return count;
+        }
+
+        public void Dispose() => _file?.Dispose();
+    }
+
+    /// <summary>
+    /// The lines between two offsets of a <see cref="CsvBytes"/> as spans of one reused buffer (CR, LF or CR LF end a line,
+    /// as in <see cref="TextReader.ReadLine"/>); <paramref name="line"/> is the number of the line before the first.
+    /// </summary>
+    private sealed class ByteLines(CsvBytes source, long from, long to, string name, int line)
     {
         // A data row holds a few numbers; a longer line is damage, not data, and must not take the memory.
         private const int MaxLine = 1 << 20;
-        private readonly StreamReader _reader = new(path);
-        private char[] _buffer = new char[1 << 16];
+        private byte[] _buffer = new byte[1 << 16];
         private int _start, _end;
+        private long _next = from;
         private bool _eof;
 
         /// <summary>The 1-based number of the line returned last.</summary>
-        public int Line { get; private set; }
+        public int Line { get; private set; } = line;
 
-        /// <summary>The next line, valid until the next call; false at the end of the file.</summary>
-        public bool Next(out ReadOnlySpan<char> line)
+        /// <summary>The offset where the next line starts.</summary>
+        public long Position => _next - (_end - _start);
+
+        /// <summary>The next line, valid until the next call; false at the end of the range.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        public bool Next(out ReadOnlySpan<byte> line)
         {
             while (true)
             {
                 var span = _buffer.AsSpan(_start, _end - _start);
-                int i = span.IndexOfAny('\n', '\r');
+                int i = span.IndexOfAny((byte)'\n', (byte)'\r');
                 if (i >= 0 && (span[i] == '\n' || i + 1 < span.Length || _eof))
                 {
                     line = span[..i];
@@ -329,23 +462,33 @@ public sealed class DataTable
                     if (_buffer.Length >= MaxLine) throw new InputException($"{name} line {Line + 1}: longer than {MaxLine} characters; a data row holds a few numbers");
                     Array.Resize(ref _buffer, 2 * _buffer.Length);
                 }
-                int read = _reader.Read(_buffer, _end, _buffer.Length - _end);
+                int read = source.Read(_buffer.AsSpan(_end, (int)Math.Min(_buffer.Length - _end, to - _next)), _next);
                 if (read == 0) _eof = true;
-                else _end += read;
+                else (_end, _next) = (_end + read, _next + read);
             }
         }
-
-        public void Dispose() => _reader.Dispose();
     }
 
     /// <summary>A number column and the first row that holds no finite number (refused when the column is used).</summary>
-    private sealed class NumberColumn(int rows)
+    private sealed class NumberColumn(double[] values)
     {
-        public double[] Values { get; } = new double[rows];
+        public NumberColumn(int rows) : this(new double[rows]) { }
+
+        public double[] Values { get; } = values;
         public int ProblemRow { get; private set; } = -1;
         public string? Problem { get; private set; }
 
         private HashSet<int>? _missing;
+
+        /// <summary>A column over the same values with problems of its own, for a part of the rows read in parallel.</summary>
+        public NumberColumn Part() => new(Values);
+
+        /// <summary>Takes over the problems of a part.</summary>
+        public void Absorb(NumberColumn part)
+        {
+            if (part.ProblemRow >= 0 && (ProblemRow < 0 || part.ProblemRow < ProblemRow)) (ProblemRow, Problem) = (part.ProblemRow, part.Problem);
+            if (part._missing is not null) (_missing ??= []).UnionWith(part._missing);
+        }
 
         public bool IsMissing(int row) => _missing?.Contains(row) == true;
 
@@ -364,12 +507,44 @@ public sealed class DataTable
     }
 
     /// <summary>A text column: a code per row and each distinct value once (null for a Parquet null).</summary>
-    private sealed class TextColumn(int rows)
+    private sealed class TextColumn(int[] codes)
     {
         private readonly Dictionary<string, int> _codes = new(StringComparer.Ordinal);
         private int _null = -1;
-        public int[] Codes { get; } = new int[rows];
+        // The raw bytes of the last CSV field coded, and its code: a column like `mode` repeats its value row after row.
+        private byte[] _last = [];
+        private int _lastLength = -1, _lastCode;
+
+        public TextColumn(int rows) : this(new int[rows]) { }
+
+        public int[] Codes { get; } = codes;
         public List<string?> Values { get; } = [];
+
+        /// <summary>A column over the same codes with values of its own, for a part of the rows read in parallel.</summary>
+        public TextColumn Part() => new(Codes);
+
+        /// <summary>Takes over the values of a part that coded rows [from, to), in their order of first appearance.</summary>
+        public void Absorb(TextColumn part, int from, int to)
+        {
+            var map = part.Values.Select(Code).ToArray();
+            for (int r = from; r < to; r++) Codes[r] = map[Codes[r]];
+        }
+
+        /// <summary>True (and row r coded) when the field's bytes are those of the last field remembered.</summary>
+        public bool Repeats(ReadOnlySpan<byte> field, int r)
+        {
+            if (field.Length != _lastLength || !field.SequenceEqual(_last.AsSpan(0, _lastLength))) return false;
+            Codes[r] = _lastCode;
+            return true;
+        }
+
+        /// <summary>Remembers the bytes of the field that gave row r its code.</summary>
+        public void Remember(ReadOnlySpan<byte> field, int r)
+        {
+            if (_last.Length < field.Length) _last = new byte[Math.Max(field.Length, 2 * _last.Length)];
+            field.CopyTo(_last);
+            (_lastLength, _lastCode) = (field.Length, Codes[r]);
+        }
 
         public int Code(ReadOnlySpan<char> value)
         {

@@ -122,8 +122,17 @@ public static class FitDataReader
         // Distinct delay values, then groups of values within the tolerance of the group's smallest (delays written as text
         // round-trip exactly; the tolerance only absorbs unit conversion).
         var distinct = new Dictionary<double, int>();
+        // Shots come in runs of one delay: a row with the delay of the row before skips the lookup.
+        double lastDelay = double.NaN;
+        int lastGroup = -1;
+        int Group(double delay)
+        {
+            if (!(delay == lastDelay)) (lastDelay, lastGroup) = (delay, distinct[delay]);
+            return lastGroup;
+        }
         for (int r = 0; r < raw.Length; r++)
-            if (Kept(r)) distinct.TryAdd(raw[r], 0);
+            if (Kept(r) && !(raw[r] == lastDelay)) distinct.TryAdd(lastDelay = raw[r], 0);
+        lastDelay = double.NaN;
         var values = distinct.Keys.Order().ToArray();
         var groups = new List<(double Delay, long Count, int First, double SumI, double SumQ, double Sii, double Sqq, double Siq)>();
         foreach (double v in values)
@@ -138,7 +147,7 @@ public static class FitDataReader
         {
             if ((r & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
             if (!Kept(r)) continue;
-            ref var group = ref g[distinct[raw[r]]];
+            ref var group = ref g[Group(raw[r])];
             group.Count++;
             group.SumI += i[r];
             group.SumQ += q[r];
@@ -148,7 +157,7 @@ public static class FitDataReader
         {
             if ((r & 0xFFFF) == 0) cancel.ThrowIfCancellationRequested();
             if (!Kept(r)) continue;
-            ref var group = ref g[distinct[raw[r]]];
+            ref var group = ref g[Group(raw[r])];
             double a = i[r] - group.SumI / group.Count, b = q[r] - group.SumQ / group.Count;
             group.Sii += a * a; group.Sqq += b * b; group.Siq += a * b;
         }

@@ -9,7 +9,10 @@ namespace Decohere.Statistics;
 /// <summary>Settings of the maximum-likelihood driver (a light settings object; the problem is the objective).</summary>
 public sealed record MaximumLikelihoodSettings
 {
-    /// <summary>Number of optimiser starts (the given start and deterministic spreads around it, a factor 3 apart).</summary>
+    /// <summary>
+    /// Most optimiser starts (the given start and deterministic spreads around it, a factor 3 apart). They run in pairs, and
+    /// the later pairs are skipped once every start so far has ended at the same optimum.
+    /// </summary>
     public int Starts { get; init; } = 4;
 
     /// <summary>Confidence of the profile-likelihood intervals.</summary>
@@ -106,6 +109,25 @@ public static class MaximumLikelihood
 {
     private const double Invalid = 1e300;
 
+    // The starts' loose optima: the simplex's values within 1e-6 of each other (relative), about 1e-4 in −2 ln L.
+    private const double LooseTolerance = 1e-6;
+
+    // A profile point's inner optimum: 1e-8 of −2 ln L moves r = √(P − P̂) by ~1e-6, a thousandth of the tolerance on r
+    // with which each end of an interval is found.
+    private const double ProfileTolerance = 1e-8;
+
+    // Starts are run this many at a time (not one per core, so that which run does not depend on the machine).
+    private const int StartPair = 2;
+
+    // The simplex that refines a loose optimum, relative to the starts' (whose spread is about the square root of the tolerance).
+    private const double RefineStep = 1e-2;
+
+    // Loose optima within this rise of −2 ln L of the best may hide a deeper minimum (far below the χ²₁ quantile of any interval) ...
+    private const double SameDepth = 0.01;
+
+    // ... unless they lie within this distance (optimiser coordinates, ln x for a log parameter) of it: the same basin.
+    private const double SamePoint = 1e-3;
+
     /// <summary>
     /// Minimises <paramref name="minus2LogL"/> (natural parameter values in, −2 ln L up to a constant out; +∞ or an
     /// exception for an impossible point) over the parameters.
@@ -152,16 +174,39 @@ public static class MaximumLikelihood
         {
             var u0 = parameters.Select(p => p.ToInternal(p.Start)).ToArray();
             var starts = Starts(u0, Math.Max(1, settings.Starts));
-            var found = new (double[] U, double F)[starts.Count];
             var all = Enumerable.Range(0, _p).ToArray();
             var scale = parameters.Select(p => p.IsLogarithmic ? 0.5 : 0.1 * Math.Max(Math.Abs(p.Start), 1e-3)).ToArray();
-            void One(int s) => found[s] = Minimise(starts[s], all, scale);
-            if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, starts.Count, new ParallelOptions { CancellationToken = cancel }, One);
-            else for (int s = 0; s < starts.Count; s++) One(s);
-            var best = found.MinBy(r => r.F);
-            if (best.F >= Invalid)
+            // Starts run in pairs, each to a loose optimum (enough to tell basins apart); once every start so far has ended
+            // in one basin the rest are skipped. Only the best, and any start that ended in another basin about as deep,
+            // is then converged tightly.
+            var found = new List<(double[] U, double F)>();
+            for (int first = 0; first < starts.Count; first += StartPair)
+            {
+                var pair = new (double[] U, double F)[Math.Min(StartPair, starts.Count - first)];
+                void One(int s) => pair[s] = Minimise(starts[first + s], all, scale, LooseTolerance);
+                if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, pair.Length, new ParallelOptions { CancellationToken = cancel }, One);
+                else for (int s = 0; s < pair.Length; s++) One(s);
+                found.AddRange(pair);
+                var lowest = found.MinBy(r => r.F);
+                if (lowest.F < Invalid && found.All(r => r.F <= lowest.F + SameDepth && Distance(r.U, lowest.U) <= SamePoint)) break;
+            }
+            var loose = found.MinBy(r => r.F);
+            if (loose.F >= Invalid)
                 throw new InputException("the likelihood is not finite at any start: check the data and the starting values of the free parameters");
-            best = NewtonPolish(best.U, best.F, all);
+            var deep = found.Where(r => r.F <= loose.F + SameDepth && (r == loose || Distance(r.U, loose.U) > SamePoint)).ToArray();
+            // Newton steps from a loose optimum usually converge in two or three; a simplex refines those where they do not.
+            var refined = new (double[] U, double F)[deep.Length];
+            var fine = scale.Select(x => x * RefineStep).ToArray();
+            void Refine(int s)
+            {
+                refined[s] = NewtonPolish(deep[s].U, deep[s].F, all, out bool converged);
+                if (converged) return;
+                var (u, f) = Minimise(refined[s].U, all, fine);
+                refined[s] = NewtonPolish(u, f, all, out _);
+            }
+            if (settings.Parallel) System.Threading.Tasks.Parallel.For(0, deep.Length, new ParallelOptions { CancellationToken = cancel }, Refine);
+            else for (int s = 0; s < deep.Length; s++) Refine(s);
+            var best = refined.MinBy(r => r.F);
 
             var hessian = Hessian(best.U, best.F, all, out _);
             Matrix<double>? covariance = null;
@@ -208,6 +253,8 @@ public static class MaximumLikelihood
             return new MaximumLikelihoodResult(parameters, best.U, best.F, covariance, intervals, _evaluations, [.. _warnings.Distinct()], threshold);
         }
 
+        private static double Distance(double[] a, double[] b) => a.Zip(b).Max(d => Math.Abs(d.First - d.Second));
+
         private List<double[]> Starts(double[] u0, int count)
         {
             var list = new List<double[]> { u0 };
@@ -252,7 +299,7 @@ public static class MaximumLikelihood
                     bool better = f < fu;
                     double gain = fu - f;
                     if (better) { u = candidate; fu = f; }
-                    if (!better || gain < 1e-9 * Math.Max(1, Math.Abs(f))) break;
+                    if (!better || gain < 1000 * tolerance * Math.Max(1, Math.Abs(f))) break;
                 }
                 catch (MaximumIterationsException)
                 {
@@ -263,9 +310,14 @@ public static class MaximumLikelihood
             return (u, fu);
         }
 
-        /// <summary>Finite-difference Newton steps with backtracking (J. Nocedal, S. J. Wright, Numerical Optimization, 2nd ed., Springer 2006, sec. 3.1, 8.1).</summary>
-        private (double[] U, double F) NewtonPolish(double[] u, double f, int[] free)
+        /// <summary>
+        /// Finite-difference Newton steps with backtracking (J. Nocedal, S. J. Wright, Numerical Optimization, 2nd ed., Springer
+        /// 2006, sec. 3.1, 8.1). <paramref name="converged"/> when a step no longer lowers −2 ln L by more than 1e-9: the
+        /// differenced gradient's truncation error then dominates what the quadratic model still predicts.
+        /// </summary>
+        private (double[] U, double F) NewtonPolish(double[] u, double f, int[] free, out bool converged)
         {
+            converged = false;
             for (int iteration = 0; iteration < 6; iteration++)
             {
                 var h = Hessian(u, f, free, out var gradient, refine: iteration == 0 ? 1 : 0);
@@ -277,16 +329,21 @@ public static class MaximumLikelihood
                 }
                 catch (ArgumentException) { break; }
                 double predicted = -0.5 * gradient.DotProduct(delta);
-                if (!(predicted > 1e-12)) break;
+                if (!(predicted > 1e-12)) { converged = true; break; }
                 bool moved = false;
                 for (double a = 1; a > 1e-3; a *= 0.5)
                 {
                     var trial = (double[])u.Clone();
                     for (int i = 0; i < free.Length; i++) trial[free[i]] += a * delta[i];
                     double ft = F(trial);
-                    if (ft < f) { u = trial; f = ft; moved = true; break; }
+                    if (ft < f)
+                    {
+                        converged = f - ft < 1e-9 || predicted < 1e-10;
+                        (u, f, moved) = (trial, ft, true);
+                        break;
+                    }
                 }
-                if (!moved || predicted < 1e-10) break;
+                if (!moved || converged) break;
             }
             return (u, f);
         }
@@ -396,7 +453,7 @@ public static class MaximumLikelihood
                 var start = (double[])warm.Clone();
                 for (int i = 0; i < _p; i++) if (i != k) start[i] += slope[i] * (t - warmT);
                 start[k] = t;
-                var (u, f) = Minimise(start, others, perturbation, 1e-10, 1);
+                var (u, f) = Minimise(start, others, perturbation, ProfileTolerance, 1);
                 if (f < better) { better = f; betterU = u; }
                 if (keep) { warm = u; warmT = t; }
                 return Math.Sqrt(Math.Max(f - fHat, 0));
