@@ -1,4 +1,3 @@
-using System.Text.Json;
 using System.Text.Json.Nodes;
 using Decohere.Analyses.Fitting;
 using Decohere.Core;
@@ -13,16 +12,7 @@ public static class CalibrationFile
     public static FitCalibration Read(string path)
     {
         string name = Path.GetFileName(path);
-        if (!File.Exists(path)) throw new InputException($"calibration {path}: not found");
-        JsonNode? root;
-        try
-        {
-            root = JsonNode.Parse(File.ReadAllText(path));
-        }
-        catch (JsonException e)
-        {
-            throw new InputException($"calibration {name}: not JSON ({e.Message.Split('\n')[0]})");
-        }
+        var root = JsonInput.Read(path, "calibration");
         double Value(string where, JsonNode? node, string field, bool positive)
         {
             double? v = null;

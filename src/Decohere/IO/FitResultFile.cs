@@ -1,4 +1,3 @@
-using System.Text.Json;
 using System.Text.Json.Nodes;
 using Decohere.Core;
 using Decohere.Scenarios;
@@ -18,16 +17,7 @@ public static class FitResultFile
     {
         var (path, set) = Split(spec);
         string name = Path.GetFileName(path) + (set is null ? "" : ":" + set);
-        if (!File.Exists(path)) throw new InputException($"fitted values {spec}: not found");
-        JsonNode? root;
-        try
-        {
-            root = JsonNode.Parse(File.ReadAllText(path));
-        }
-        catch (JsonException e)
-        {
-            throw new InputException($"fitted values {name}: not JSON ({e.Message.Split('\n')[0]})");
-        }
+        var root = JsonInput.Read(path, "fitted values");
         // Each value with the name of the fitted parameter it came from, for the correlation matrix.
         var entries = root?["data_sets"] is JsonObject sets ? Joint(root, sets, set, name) : Plain(root, set, name);
         var order = (root?["correlation"]?["parameters"] as JsonArray)?.Select(o => (string?)o).ToList();
@@ -40,7 +30,7 @@ public static class FitResultFile
                 for (int j = 0; j < entries.Count; j++)
                 {
                     int a = order.IndexOf(entries[i].Parameter), b = order.IndexOf(entries[j].Parameter);
-                    correlation[i, j] = a < 0 || b < 0 ? double.NaN : Number((matrix[a] as JsonArray)?.ElementAtOrDefault(b)) ?? double.NaN;
+                    correlation[i, j] = a < 0 || b < 0 ? double.NaN : JsonInput.Number((matrix[a] as JsonArray)?.ElementAtOrDefault(b)) ?? double.NaN;
                 }
         }
         return MeasuredValues.From([.. entries.Select(e => e.Value)], correlation);
@@ -77,24 +67,12 @@ public static class FitResultFile
     }
 
     private static MeasuredValue Value(string name, string path, JsonNode? node, JsonNode? stderr) =>
-        new(path, Number(node?["value"]) ?? throw new InputException($"fitted values {name}: {path}: value must be a finite number"), Number(stderr) ?? double.NaN, name);
+        new(path, JsonInput.Number(node?["value"]) ?? throw new InputException($"fitted values {name}: {path}: value must be a finite number"), JsonInput.Number(stderr) ?? double.NaN, name);
 
     // FILE:SET when FILE exists and the whole does not (a path may itself hold a colon).
     private static (string Path, string? Set) Split(string spec)
     {
         int colon = spec.LastIndexOf(':');
         return !File.Exists(spec) && colon > 0 && File.Exists(spec[..colon]) ? (spec[..colon], spec[(colon + 1)..]) : (spec, null);
-    }
-
-    private static double? Number(JsonNode? node)
-    {
-        try
-        {
-            return node is JsonValue v && v.TryGetValue(out double d) && double.IsFinite(d) ? d : null;
-        }
-        catch (InvalidOperationException)
-        {
-            return null;
-        }
     }
 }

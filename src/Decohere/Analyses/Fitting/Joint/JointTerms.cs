@@ -65,6 +65,17 @@ public interface IJointTerm
     Scenario? Fitted(double[] x);
 }
 
+/// <summary>What the terms modelled by a scenario share.</summary>
+public static class JointTerm
+{
+    /// <summary>The scenario with each path set from its entry of the joint vector <paramref name="x"/>.</summary>
+    public static Scenario Set(Scenario scenario, ImmutableArray<(ParameterPath Path, int Index)> paths, double[] x)
+    {
+        foreach (var (path, index) in paths) scenario = path.Set(scenario, x[index]);
+        return scenario;
+    }
+}
+
 /// <summary>
 /// Shots, variances or occupancies against delay, modelled by a scenario's readout as <c>fit</c> does: the scenario's
 /// paths are set from the joint vector, <see cref="ReadoutModel.Predict(Scenario, IReadOnlyList{double}, CancellationToken)"/>
@@ -285,12 +296,7 @@ public sealed class CoolingTerm : IJointTerm
     public ImmutableArray<JointPoint> Points { get; }
 
     /// <inheritdoc/>
-    public Scenario? Fitted(double[] x)
-    {
-        var s = Scenario;
-        foreach (var (path, index) in Paths) s = path.Set(s, x[index]);
-        return s;
-    }
+    public Scenario? Fitted(double[] x) => JointTerm.Set(Scenario, Paths, x);
 
     /// <inheritdoc/>
     public double[] Model(double[] x, CancellationToken cancel)
@@ -390,12 +396,7 @@ public sealed class SidebandTerm : IJointTerm
     public ImmutableArray<JointPoint> Points { get; }
 
     /// <inheritdoc/>
-    public Scenario? Fitted(double[] x)
-    {
-        var s = Scenario;
-        foreach (var (path, index) in Paths) s = path.Set(s, x[index]);
-        return s;
-    }
+    public Scenario? Fitted(double[] x) => JointTerm.Set(Scenario, Paths, x);
 
     /// <inheritdoc/>
     public double[] Model(double[] x, CancellationToken cancel)
