@@ -50,8 +50,8 @@ public sealed record Lattice(
     ImmutableDictionary<string, CollectiveTone> Drives,
     string Shape)
 {
-    /// <summary>Most sites of a lattice: two modes per site, and a scenario has at most 200 modes.</summary>
-    public const int MaxSites = 100;
+    /// <summary>Most sites of a lattice: two modes per site, and a scenario has at most 500 modes.</summary>
+    public const int MaxSites = 250;
 
     /// <summary>Number of sites.</summary>
     public int Count => Sites.Length;

@@ -155,7 +155,7 @@ public static class ScenarioFormat
 
     private static Section Lattice => new("lattice", "cells of a cavity and a drum, generated: chain, honeycomb flake or explicit sites and bonds",
         new Key("kind", new ChoiceKind("lattice kind", "chain", "honeycomb", "explicit"), Required: true),
-        new Key("sites", new NumberKind("chain: number of sites", 2, 100, Whole: true)),
+        new Key("sites", new NumberKind("chain: number of sites", 2, Scenarios.Lattice.MaxSites, Whole: true)),
         new Key("couplings", new ListKind("hopping rates J/2π (chain: repeating pattern, honeycomb: 1 or 3 directions)", new QuantityKind(Dimension.Frequency, "hopping, e.g. 80 MHz"), 1, 8)),
         new Key("boundary", new ChoiceKind("chain ends", "open", "periodic")),
         new Key("next_nearest", new QuantityKind(Dimension.Frequency, "next-nearest hopping rate")),
@@ -188,7 +188,7 @@ public static class ScenarioFormat
         new Key("name", new NameKind("scenario name, also the default output directory results/<name>/", @"^[A-Za-z0-9][A-Za-z0-9 _.+()-]*$"), Required: true),
         new Key("model", new ChoiceKind("full (cavities kept) or effective (cavities eliminated)", "full", "effective")),
         new Key("sideband_corrections", new BooleanKind("effective model: add the off-resonant scattering rates")),
-        new Key("modes", new MapKind("modes by name (required unless lattice: generates them)", Mode, MaxEntries: 200)),
+        new Key("modes", new MapKind("modes by name (required unless lattice: generates them)", Mode, MaxEntries: ScenarioLoader.MaxModes)),
         new Key("couplings", new ListKind("static couplings", Coupling)),
         new Key("lattice", Lattice),
         new Key("initial", new MapKind("initial state per mode (others start in their bath's thermal state)", Initial)),

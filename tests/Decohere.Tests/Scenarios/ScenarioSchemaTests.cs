@@ -193,7 +193,7 @@ public class ScenarioSchemaTests
     public void TooManyModesAreRefusedByTheSchema()
     {
         var yaml = new System.Text.StringBuilder("name: t\nmodes:\n");
-        for (int i = 0; i < 201; i++) yaml.Append($"  m{i}: {{ kind: mechanical, frequency: 4 MHz, linewidth: 1 Hz, bath: {{ occupancy: 1 }} }}\n");
+        for (int i = 0; i <= ScenarioLoader.MaxModes; i++) yaml.Append($"  m{i}: {{ kind: mechanical, frequency: 4 MHz, linewidth: 1 Hz, bath: {{ occupancy: 1 }} }}\n");
         yaml.Append("stages: [ { name: s, duration: 1 ms } ]\n");
         Assert.Throws<ScenarioException>(() => ScenarioLoader.Parse(yaml.ToString()));
         Assert.Contains(SchemaValidator.Validate(Schema, yaml.ToString()), e => e.Contains("maxProperties"));
