@@ -19,6 +19,9 @@ namespace Decohere.Benchmarks;
 /// </summary>
 public static class Figures
 {
+    // Options of one figure (`--native PATH` of job), by name without the dashes.
+    private static readonly Dictionary<string, string> Options = [];
+
     private static readonly Dictionary<string, Action<int>> All = new()
     {
         ["run"] = WholeRun,
@@ -29,9 +32,6 @@ public static class Figures
         ["joint"] = JointFit,
         ["job"] = repeat => JobFigure.Run(repeat, Options),
     };
-
-    // Options of one figure (`--native PATH` of job), by name without the dashes.
-    private static readonly Dictionary<string, string> Options = [];
 
     /// <summary>Runs the named figures (all when none are named) with <paramref name="args"/> such as <c>--repeat 5</c>.</summary>
     public static int Run(string[] args)

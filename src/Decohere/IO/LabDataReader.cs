@@ -14,16 +14,10 @@ public static class LabDataReader
     public static async Task<IReadOnlyList<CoolingPoint>> ReadCoolingAsync(string path, CancellationToken cancel)
     {
         var table = await DataTable.LoadAsync(path, cancel);
-        foreach (string column in new[] { "cooperativity", "occupancy" })
-            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
-        var c = table.Numbers("cooperativity", "cooperativity");
+        Require(table, "cooperativity", "occupancy");
+        var c = Positive(table, "cooperativity");
         var n = table.Numbers("occupancy", "occupancy");
-        var err = table.Has("occupancy_err") ? table.Numbers("occupancy_err", "occupancy_err") : null;
-        for (int r = 0; r < c.Length; r++)
-        {
-            if (!(c[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column cooperativity: {c[r]} must be > 0");
-            if (err is not null && !(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column occupancy_err: {err[r]} must be > 0");
-        }
+        var err = table.Has("occupancy_err") ? Positive(table, "occupancy_err") : null;
         return [.. c.Select((x, r) => new CoolingPoint(x, n[r], err?[r]))];
     }
 
@@ -35,17 +29,10 @@ public static class LabDataReader
     public static async Task<IReadOnlyList<SidebandRatioPoint>> ReadSidebandsAsync(string path, CancellationToken cancel)
     {
         var table = await DataTable.LoadAsync(path, cancel);
-        foreach (string column in new[] { "ratio", "ratio_err" })
-            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
-        var ratio = table.Numbers("ratio", "ratio");
-        var err = table.Numbers("ratio_err", "ratio_err");
-        var coupling = table.Has("coupling_hz") ? table.Numbers("coupling_hz", "coupling_hz") : null;
-        for (int r = 0; r < ratio.Length; r++)
-        {
-            if (!(ratio[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column ratio: {ratio[r]} must be > 0");
-            if (!(err[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column ratio_err: {err[r]} must be > 0");
-            if (coupling is not null && !(coupling[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column coupling_hz: {coupling[r]} must be > 0");
-        }
+        Require(table, "ratio", "ratio_err");
+        var ratio = Positive(table, "ratio");
+        var err = Positive(table, "ratio_err");
+        var coupling = table.Has("coupling_hz") ? Positive(table, "coupling_hz") : null;
         return [.. ratio.Select((x, r) => new SidebandRatioPoint(coupling?[r], x, err[r]))];
     }
 
@@ -55,7 +42,7 @@ public static class LabDataReader
     {
         var table = await DataTable.LoadAsync(path, cancel);
         string columns = string.Join(", ", table.ColumnNames);
-        if (!table.Has("time_s")) throw new InputException($"data file {table.Source}: missing column 'time_s'; columns: {columns}");
+        Require(table, "time_s");
         bool amplitude = table.Has("amplitude"), energy = table.Has("energy");
         if (amplitude == energy)
             throw new InputException($"data file {table.Source}: give exactly one of the columns 'amplitude' or 'energy'; columns: {columns}");
@@ -67,5 +54,20 @@ public static class LabDataReader
         ImmutableArray<double>? sigmas = sigma is { } common ? [.. Enumerable.Repeat(common, values.Length)]
             : table.Has("sigma") ? [.. table.Numbers("sigma", "sigma")] : null;
         return new RingdownData(table.Source, amplitude ? RingdownKind.Amplitude : RingdownKind.Energy, times, values, sigmas);
+    }
+
+    private static void Require(DataTable table, params string[] columns)
+    {
+        foreach (string column in columns)
+            if (!table.Has(column)) throw new InputException($"data file {table.Source}: missing column '{column}'; columns: {string.Join(", ", table.ColumnNames)}");
+    }
+
+    // A column whose every value must be > 0 (a cooperativity, a stated error, a ratio of powers), refused by row.
+    private static double[] Positive(DataTable table, string column)
+    {
+        var values = table.Numbers(column, column);
+        for (int r = 0; r < values.Length; r++)
+            if (!(values[r] > 0)) throw new InputException($"data file {table.Source} {table.RowLabel(r)}, column {column}: {values[r]} must be > 0");
+        return values;
     }
 }

@@ -249,7 +249,7 @@ public static class SpectrumAnalysis
     {
         var modes = ModelBuilder.StateModes(scenario);
         var tone = stage.Tones[t];
-        var probeStage = stage with { Tones = [.. stage.Tones.Where((x, i) => i == t || x.Cavity != tone.Cavity)] };
+        var probeStage = ProbeStage(stage, t);
         var offStage = stage with { Tones = [.. stage.Tones.Where(x => x.Cavity != tone.Cavity)] };
         probe = ModelBuilder.Build(scenario, probeStage);
         var off = ModelBuilder.Build(scenario, offStage);
@@ -295,6 +295,10 @@ public static class SpectrumAnalysis
         return r.PowerPerS / r.RatePerS / (b.PowerPerS / b.RatePerS);
     }
 
+    // The stage with tone t alone on its cavity (tones on other cavities kept).
+    private static Stage ProbeStage(Stage stage, int t) =>
+        stage with { Tones = [.. stage.Tones.Where((x, i) => i == t || x.Cavity != stage.Tones[t].Cavity)] };
+
     // The sideband and its spectrum in the cavity's output.
     private static (SidebandPower, Spectrum) Probe(Scenario scenario, Stage stage, int t, ImmutableArray<Mode> modes,
         ImmutableArray<double> freqs, SpectrumSettings settings)
@@ -304,7 +308,7 @@ public static class SpectrumAnalysis
         int c = modes.Select(m => m.Name).ToList().IndexOf(tone.Cavity);
         var cavity = modes[c];
         double kappa = cavity.DecayRate;
-        double nc = ModelBuilder.BathOccupancy(scenario, cavity, stage with { Tones = [.. stage.Tones.Where((x, i) => i == t || x.Cavity != tone.Cavity)] });
+        double nc = ModelBuilder.BathOccupancy(scenario, cavity, ProbeStage(stage, t));
         int count = freqs.Length;
         var response = new LinearResponse(probe);
         // Only the cavity's rows of the susceptibility are needed here.
