@@ -27,9 +27,17 @@ public sealed record Stability(double MaxRealPart, double MinRealPart, double Ma
     public double GrowthRate => MaxRealPart;
 
     /// <summary>Eigenvalue analysis of a drift matrix (the real Schur form, as in <see cref="Lyapunov.Solve"/>).</summary>
-    public static Stability Of(Matrix<double> drift)
+    public static Stability Of(Matrix<double> drift) => Of(LyapunovOperator.Of(drift));
+
+    /// <summary>The stability of an analysed drift.</summary>
+    public static Stability Of(LyapunovOperator drift)
     {
-        Complex[] eigen = [.. Lyapunov.Eigenvalues(drift)];
-        return new Stability(eigen.Max(e => e.Real), eigen.Min(e => e.Real), eigen.Max(e => Math.Abs(e.Imaginary)), Lyapunov.DriftNorm(drift));
+        double min = double.PositiveInfinity, imaginary = 0;
+        foreach (Complex e in drift.Eigenvalues)
+        {
+            min = Math.Min(min, e.Real);
+            imaginary = Math.Max(imaginary, Math.Abs(e.Imaginary));
+        }
+        return new Stability(drift.MaxRealPart, min, imaginary, drift.DriftNorm);
     }
 }

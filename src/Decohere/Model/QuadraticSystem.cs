@@ -115,14 +115,28 @@ public sealed class QuadraticSystem
     /// <summary>The drift A and diffusion D of this system.</summary>
     public LinearModel ToLinearModel()
     {
+        // Ω is block diagonal with [[0, 1], [−1, 0]]: Ω M swaps each mode's two rows and negates the second, M Ωᵀ does
+        // the same to the columns, so both products are permutations with signs (+ 0.0 keeps −0 out of the output).
         int n = 2 * _modes.Length;
-        var omega = Symplectic(_modes.Length);
-        var imC = Matrix<double>.Build.Dense(n, n, (i, j) => _jumpSum[i, j].Imaginary);
-        var reC = Matrix<double>.Build.Dense(n, n, (i, j) => _jumpSum[i, j].Real);
-        var drift = omega * (_hamiltonian + imC);
-        var diffusion = omega * reC * omega.Transpose();
-        diffusion = (diffusion + diffusion.Transpose()) * 0.5;
-        return new LinearModel(drift, diffusion, _modes);
+        double[] h = _hamiltonian.AsColumnMajorArray() ?? _hamiltonian.ToColumnMajorArray();
+        Complex[] c = _jumpSum.AsColumnMajorArray() ?? _jumpSum.ToColumnMajorArray();
+        double[] drift = new double[n * n], diffusion = new double[n * n];
+        for (int j = 0; j < n; j++)
+        {
+            int sj = j ^ 1;
+            double signJ = (j & 1) == 0 ? 1 : -1;
+            for (int i = 0; i < n; i++)
+            {
+                int si = i ^ 1;
+                double signI = (i & 1) == 0 ? 1 : -1;
+                drift[i + j * n] = signI * (h[si + j * n] + c[si + j * n].Imaginary) + 0.0;
+                diffusion[i + j * n] = signI * signJ * c[si + sj * n].Real + 0.0;
+            }
+        }
+        for (int j = 0; j < n; j++)
+            for (int i = j + 1; i < n; i++)
+                diffusion[i + j * n] = diffusion[j + i * n] = (diffusion[i + j * n] + diffusion[j + i * n]) * 0.5;
+        return new LinearModel(Matrix<double>.Build.Dense(n, n, drift), Matrix<double>.Build.Dense(n, n, diffusion), _modes);
     }
 
     /// <summary>Ω = ⊕_j [[0, 1], [−1, 0]], so that [R_k, R_l] = iΩ_kl.</summary>

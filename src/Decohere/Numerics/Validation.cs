@@ -44,31 +44,47 @@ internal static class Validation
     }
 
     /// <summary>
-    /// Returns (D + Dᵀ)/2, refusing a D whose antisymmetric part is more than rounding noise:
+    /// Returns (D + Dᵀ)/2 of a column-major n×n array, refusing a D whose antisymmetric part is more than rounding noise:
     /// a diffusion matrix is symmetric, and an asymmetric one signals a model-building bug.
     /// </summary>
-    public static Matrix<double> SymmetrisedDiffusion(Matrix<double> d, string name)
+    public static double[] SymmetrisedDiffusion(double[] d, int n, string name)
     {
+        double[] difference = new double[n * n];
+        double[] symmetric = new double[n * n];
+        for (int j = 0; j < n; j++)
+        {
+            for (int i = 0; i < n; i++)
+            {
+                difference[i + j * n] = d[i + j * n] - d[j + i * n];
+                symmetric[i + j * n] = (d[i + j * n] + d[j + i * n]) * 0.5;
+            }
+        }
+
         double scale = FrobeniusNorm(d);
-        double asym = FrobeniusNorm(d - d.Transpose());
+        double asym = FrobeniusNorm(difference);
         if (asym > 1e-8 * scale)
         {
             throw new ArgumentException(
                 $"{name} must be symmetric; ||{name} − {name}ᵀ||_F / ||{name}||_F = {asym / scale:G3}.", name);
         }
 
-        return Symmetrise(d);
+        return symmetric;
     }
+
+    /// <inheritdoc cref="SymmetrisedDiffusion(double[], int, string)"/>
+    public static Matrix<double> SymmetrisedDiffusion(Matrix<double> d, string name) =>
+        Matrix<double>.Build.Dense(d.RowCount, d.RowCount, SymmetrisedDiffusion(d.AsColumnMajorArray() ?? d.ToColumnMajorArray(), d.RowCount, name));
 
     public static Matrix<double> Symmetrise(Matrix<double> m) => (m + m.Transpose()).Multiply(0.5);
 
     /// <summary>
     /// ‖M‖_F in O(n²), scaled by max |m_ij| against overflow; MathNet's dense FrobeniusNorm forms M Mᴴ, O(n³).
     /// </summary>
-    public static double FrobeniusNorm(Matrix<double> m)
+    public static double FrobeniusNorm(Matrix<double> m) => FrobeniusNorm(m.AsColumnMajorArray() ?? m.ToColumnMajorArray());
+
+    /// <summary>‖M‖_F of the entries, scaled by max |m_ij| against overflow.</summary>
+    public static double FrobeniusNorm(ReadOnlySpan<double> entries)
     {
-        double[]? values = m.AsColumnMajorArray();
-        IEnumerable<double> entries = values ?? m.Enumerate();
         double max = 0;
         foreach (double x in entries) max = Math.Max(max, Math.Abs(x));
         if (max == 0 || double.IsInfinity(max)) return max;

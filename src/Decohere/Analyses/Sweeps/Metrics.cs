@@ -1,4 +1,6 @@
+using System.Collections.Concurrent;
 using System.Collections.Immutable;
+using System.Runtime.InteropServices;
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
@@ -23,6 +25,7 @@ public sealed class SweepPoint
     private readonly SweepTemplate? _template;
     private readonly LinearModel?[] _models;
     private readonly GaussianState?[] _steady;
+    private readonly LyapunovOperator?[] _operators;
     private readonly Stability?[] _stability;
     private readonly LifetimeCore?[] _lifetimes;
     private Dynamics? _dynamics;
@@ -41,6 +44,7 @@ public sealed class SweepPoint
         int stages = scenario.Stages.Length;
         _models = new LinearModel?[stages];
         _steady = new GaussianState?[stages];
+        _operators = new LyapunovOperator?[stages];
         _stability = new Stability?[stages];
         _lifetimes = new LifetimeCore?[stages];
     }
@@ -63,8 +67,11 @@ public sealed class SweepPoint
 
     /// <summary>Stability of a stage, straight from its drift (so it is reported even when the dynamics cannot be solved).</summary>
     public Stability Stability(int stage) =>
-        _stability[stage] ??= _dynamics?.Stabilities[stage]
-            ?? (_template is { } t && ReferenceEquals(Model(stage), t.Models.Template(stage)) ? t.Stability(stage) : Engine.Stability.Of(Model(stage).Drift));
+        _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Engine.Stability.Of(Operator(stage));
+
+    // The sweep's points share the analysis of each drift they have in common.
+    private LyapunovOperator Operator(int stage) =>
+        _operators[stage] ??= _template?.Operator(Model(stage).Drift) ?? LyapunovOperator.Of(Model(stage).Drift);
 
     /// <summary>
     /// The steady state of a stage, as <see cref="Dynamics.SteadyState"/> gives it: the one Lyapunov solver on the stage's
@@ -76,7 +83,7 @@ public sealed class SweepPoint
         if (_steady[stage] is { } known) return known;
         if (_dynamics is not null || !Solvable() || !Stability(stage).IsStable) return _steady[stage] = Dynamics.SteadyState(stage);
         var model = Model(stage);
-        return _steady[stage] = new GaussianState(Vector<double>.Build.Dense(model.Dimension), Lyapunov.Solve(model.Drift, model.Diffusion).Covariance,
+        return _steady[stage] = new GaussianState(Vector<double>.Build.Dense(model.Dimension), Operator(stage).Solve(model.Diffusion).Covariance,
             model.ModeNames);
     }
 
@@ -108,16 +115,47 @@ public sealed class SweepPoint
     }
 }
 
-/// <summary>What the points of one sweep share: the template's stage models and their stabilities.</summary>
+/// <summary>
+/// What the points of one sweep share: the template's stage models, and the analysis (eigenvalues, Lyapunov
+/// factorisation) of every drift met so far, keyed on its exact entries, so that points differing only in their
+/// diffusion (bath temperatures) do not analyse their drift again.
+/// </summary>
 internal sealed class SweepTemplate(Scenario template)
 {
-    private readonly Stability?[] _stability = new Stability?[template.Stages.Length];
+    // Enough for the distinct drifts of any grid a table is read from; past it drifts are analysed per point.
+    private const int MaxOperators = 4096;
+
+    private readonly ConcurrentDictionary<DriftKey, LyapunovOperator> _operators = new();
 
     /// <summary>The template's models, and the fast path to each point's.</summary>
     public StageModels Models { get; } = new(template);
 
-    /// <summary>Stability of the template's stage (computed once; a race computes the same value twice).</summary>
-    public Stability Stability(int stage) => _stability[stage] ??= Engine.Stability.Of(Models.Template(stage).Drift);
+    /// <summary>The analysed drift (a race analyses the same drift twice; either copy serves).</summary>
+    public LyapunovOperator Operator(Matrix<double> drift)
+    {
+        var key = new DriftKey(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray());
+        if (_operators.TryGetValue(key, out var known)) return known;
+        var analysed = LyapunovOperator.Of(drift);
+        if (_operators.Count < MaxOperators) _operators.TryAdd(key, analysed);
+        return analysed;
+    }
+
+    private readonly struct DriftKey(double[] entries) : IEquatable<DriftKey>
+    {
+        private readonly double[] _entries = entries;
+
+        public bool Equals(DriftKey other) =>
+            MemoryMarshal.Cast<double, long>(_entries).SequenceEqual(MemoryMarshal.Cast<double, long>(other._entries));
+
+        public override bool Equals(object? obj) => obj is DriftKey other && Equals(other);
+
+        public override int GetHashCode()
+        {
+            var hash = new HashCode();
+            hash.AddBytes(MemoryMarshal.AsBytes(_entries.AsSpan()));
+            return hash.ToHashCode();
+        }
+    }
 }
 
 /// <summary>A metric bound to a sweep: its canonical spec (<c>steady_squeezing_db:squeeze</c>), column name (unit in the name) and function.</summary>
