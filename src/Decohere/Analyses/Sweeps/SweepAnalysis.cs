@@ -44,7 +44,10 @@ public sealed record SweepSettings
     /// <summary>Keep points already finished (by an earlier, stopped run of the same sweep) instead of computing them again.</summary>
     public bool Resume { get; init; }
 
-    /// <summary>Points per chunk handed to the store (0: automatic, about 20 chunks per run, 32 to 4096 points each).</summary>
+    /// <summary>
+    /// Points per chunk, each handed to the store (0: automatic, chunks of about half a second and the finished points
+    /// stored about every <see cref="SweepAnalysis.SaveInterval"/>).
+    /// </summary>
     public int ChunkPoints { get; init; }
 
     /// <summary>Worker threads (−1: every core).</summary>
@@ -121,12 +124,19 @@ public sealed record SweepResult(
 }
 
 /// <summary>
-/// Runs a sweep's points in parallel on the local cores. Finished points go to the store in chunks while the run goes
-/// on, so a stopped or killed run keeps every finished chunk; with <see cref="SweepSettings.Resume"/> the next run takes
+/// Runs a sweep's points in parallel on the local cores. Finished points go to the store while the run goes on (with
+/// automatic chunks about every <see cref="SaveInterval"/>), so a stopped or killed run keeps all but the last few seconds'
+/// work; with <see cref="SweepSettings.Resume"/> the next run takes
 /// them back and computes only the rest.
 /// </summary>
 public static class SweepAnalysis
 {
+    /// <summary>How much finished work a stopped run may lose, at most, with automatic chunks.</summary>
+    public static readonly TimeSpan SaveInterval = TimeSpan.FromSeconds(2);
+
+    private const int FirstChunkPoints = 64;
+    private const int MaxChunkPoints = 1 << 20;
+
     /// <summary>Evaluates the sweep (or one shard of it).</summary>
     /// <exception cref="InputException">A setting is out of range, or resumed rows belong to a different sweep.</exception>
     /// <exception cref="OperationCanceledException">Stopped; chunks already stored are kept for a resume.</exception>
@@ -148,23 +158,52 @@ public static class SweepAnalysis
             if (!done.ContainsKey(p)) todo.Add(p);
         settings.OnStart?.Invoke(mine, resumed);
 
-        int chunkSize = settings.ChunkPoints > 0 ? settings.ChunkPoints : (int)Math.Clamp((todo.Count + 19) / 20, 32, 4096);
+        // Automatic chunks are sized to a fraction of SaveInterval once the first has been timed, and a store keeps the
+        // finished points about every SaveInterval: a stop loses at most that much work, and a short sweep keeps nothing.
+        bool automatic = settings.ChunkPoints == 0;
+        int chunkSize = automatic ? Math.Min(todo.Count, FirstChunkPoints) : settings.ChunkPoints;
         var parallel = new ParallelOptions { CancellationToken = cancel, MaxDegreeOfParallelism = settings.Threads };
+        var pending = new List<SweepRow>();
+        long saved = Stopwatch.GetTimestamp();
         long computed = 0;
-        for (int start = 0; start < todo.Count; start += chunkSize)
+        try
         {
-            int n = Math.Min(chunkSize, todo.Count - start);
-            var rows = new SweepRow[n];
-            Parallel.For(0, n, parallel, i =>
+            for (int start = 0, n; start < todo.Count; start += n)
             {
-                rows[i] = sweep.Evaluate(todo[start + i]);
-                settings.OnPoint?.Invoke();
-            });
-            cancel.ThrowIfCancellationRequested();
-            // The last chunk goes straight into the table the report writes.
-            if (store is not null && start + n < todo.Count) await store.SaveAsync(rows, cancel);
-            foreach (var row in rows) done[row.Point] = row;
-            computed += n;
+                long chunkStarted = Stopwatch.GetTimestamp();
+                n = Math.Min(chunkSize, todo.Count - start);
+                var rows = new SweepRow[n];
+                Parallel.For(0, n, parallel, i =>
+                {
+                    rows[i] = sweep.Evaluate(todo[start + i]);
+                    settings.OnPoint?.Invoke();
+                });
+                cancel.ThrowIfCancellationRequested();
+                foreach (var row in rows) done[row.Point] = row;
+                computed += n;
+                // The last chunk goes straight into the table the report writes.
+                bool last = start + n >= todo.Count;
+                if (store is not null && !last)
+                {
+                    pending.AddRange(rows);
+                    if (!automatic || Stopwatch.GetElapsedTime(saved) >= SaveInterval)
+                    {
+                        await store.SaveAsync(pending, cancel);
+                        pending = [];
+                        saved = Stopwatch.GetTimestamp();
+                    }
+                }
+                if (automatic)
+                {
+                    double perPoint = Stopwatch.GetElapsedTime(chunkStarted).TotalSeconds / n;
+                    chunkSize = (int)Math.Clamp(SaveInterval.TotalSeconds / 4 / Math.Max(perPoint, 1e-9), FirstChunkPoints, MaxChunkPoints);
+                }
+            }
+        }
+        catch (OperationCanceledException) when (store is not null && pending.Count > 0)
+        {
+            await store.SaveAsync(pending, CancellationToken.None);
+            throw;
         }
         cancel.ThrowIfCancellationRequested();
         var all = done.Values.OrderBy(r => r.Point).ToArray();

@@ -87,6 +87,25 @@ public class SweepRunTests
     }
 
     [Fact]
+    public async Task AStoppedRunWithAutomaticChunksKeepsThePointsFinishedBeforeTheStop()
+    {
+        var sweep = Sweep.Parse(ScenarioLoader.Demo(), ["modes.drum.bath.temperature=1mK:60mK:10", "readout.added_noise=0.5:2:10"], false,
+            "steady_var_min,thermal_decoherence_rate");
+        string dir = TestPaths.NewTempDirectory();
+        using var stop = new CancellationTokenSource();
+        int seen = 0;
+        var first = new SweepSettings { Threads = 1, OnPoint = () => { if (Interlocked.Increment(ref seen) == 80) stop.Cancel(); } };
+        await Assert.ThrowsAnyAsync<OperationCanceledException>(() => WriteThrough.SweepAsync(sweep, dir, first, stop.Token));
+        // The first chunk (64 points) finished well within the save interval, so it was kept only when the run stopped;
+        // the second, stopped at its 16th point, was not.
+        string chunks = Path.Combine(dir, SweepChunkStore.ChunkDirectory, "sweep");
+        Assert.Equal(64L, Convert.ToInt64(Query($"SELECT count(*) FROM read_parquet('{chunks}/*.parquet')")[0][0]));
+        var resumed = await WriteThrough.SweepAsync(sweep, dir, new SweepSettings { Resume = true });
+        Assert.Equal(64, resumed.Resumed);
+        Assert.Equal(36, resumed.Computed);
+    }
+
+    [Fact]
     public async Task ResumeAfterAStoppedRunComputesOnlyTheRest()
     {
         var demo = ScenarioLoader.Demo();
