@@ -83,12 +83,20 @@ public sealed class QuadraticSystem
         return this;
     }
 
-    /// <summary>Energy damping at rate γ into a bath of occupancy n: L₁ = √(γ(n+1)) a, L₂ = √(γn) a†.</summary>
+    /// <summary>
+    /// Energy damping at rate γ into a bath of occupancy n: L₁ = √(γ(n+1)) a, L₂ = √(γn) a†. Their sum c₁*c₁ᵀ + c₂*c₂ᵀ
+    /// over the mode's (x, p) is γ(n + ½) I + i(γ/2)[[0, 1], [−1, 0]], added in that closed form so that the drift's
+    /// −γ/2 does not pick up rounding from the occupancy.
+    /// </summary>
     public QuadraticSystem AddDamping(int mode, double rate, double occupancy)
     {
         if (rate == 0) return this;
-        AddJump((mode, Math.Sqrt(rate * (occupancy + 1)), Complex.Zero));
-        if (occupancy > 0) AddJump((mode, Complex.Zero, Math.Sqrt(rate * occupancy)));
+        int x = 2 * mode, p = x + 1;
+        double diagonal = rate * (occupancy + 0.5), half = 0.5 * rate;
+        _jumpSum[x, x] += diagonal;
+        _jumpSum[p, p] += diagonal;
+        _jumpSum[x, p] += new Complex(0, half);
+        _jumpSum[p, x] += new Complex(0, -half);
         return this;
     }
 

@@ -21,6 +21,23 @@ public class QuadraticSystemTests
     }
 
     [Fact]
+    public void DampingIsItsTwoJumpsAndItsDriftIgnoresTheOccupancy()
+    {
+        // The closed form of AddDamping against the two jumps L₁ = √(γ(n+1)) a, L₂ = √(γn) a† through the general map;
+        // the drift −(γ/2)I holds exactly for every n, so models that differ only in bath temperature share their drift.
+        double gamma = 3.7;
+        foreach (double n in new[] { 0.0, 1e-9, 0.37, 2.5, 1234.5 })
+        {
+            var closed = new QuadraticSystem(["m"]).AddDamping(0, gamma, n).ToLinearModel();
+            var jumps = new QuadraticSystem(["m"]).AddJump((0, Math.Sqrt(gamma * (n + 1)), Complex.Zero))
+                .AddJump((0, Complex.Zero, Math.Sqrt(gamma * n))).ToLinearModel();
+            Assert.True((closed.Drift - jumps.Drift).FrobeniusNorm() < 1e-14 * gamma * (n + 1));   // the jumps round at γ(n + 1)
+            Assert.True((closed.Diffusion - jumps.Diffusion).FrobeniusNorm() < 1e-14 * gamma * (n + 1));
+            Assert.Equal(new[] { -gamma / 2, 0, 0, -gamma / 2 }, closed.Drift.ToColumnMajorArray());
+        }
+    }
+
+    [Fact]
     public void DetuningRotatesThePhasePlane()
     {
         // H = δ a†a: Heisenberg dx/dt = δp, dp/dt = −δx (common practice).
