@@ -25,7 +25,7 @@ public sealed class SweepPoint
     private readonly SweepTemplate? _template;
     private readonly LinearModel?[] _models;
     private readonly GaussianState?[] _steady;
-    private readonly LyapunovOperator?[] _operators;
+    private readonly AnalysedDrift?[] _drifts;
     private readonly Stability?[] _stability;
     private readonly LifetimeCore?[] _lifetimes;
     private Dynamics? _dynamics;
@@ -44,7 +44,7 @@ public sealed class SweepPoint
         int stages = scenario.Stages.Length;
         _models = new LinearModel?[stages];
         _steady = new GaussianState?[stages];
-        _operators = new LyapunovOperator?[stages];
+        _drifts = new AnalysedDrift?[stages];
         _stability = new Stability?[stages];
         _lifetimes = new LifetimeCore?[stages];
     }
@@ -67,11 +67,11 @@ public sealed class SweepPoint
 
     /// <summary>Stability of a stage, straight from its drift (so it is reported even when the dynamics cannot be solved).</summary>
     public Stability Stability(int stage) =>
-        _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Engine.Stability.Of(Operator(stage));
+        _stability[stage] ??= _dynamics?.Stabilities[stage] ?? Drift(stage).Stability;
 
     // The sweep's points share the analysis of each drift they have in common.
-    private LyapunovOperator Operator(int stage) =>
-        _operators[stage] ??= _template?.Operator(Model(stage).Drift) ?? LyapunovOperator.Of(Model(stage).Drift);
+    private AnalysedDrift Drift(int stage) =>
+        _drifts[stage] ??= _template?.Drift(Model(stage).Drift) ?? new AnalysedDrift(LyapunovOperator.Of(Model(stage).Drift));
 
     /// <summary>
     /// The steady state of a stage, as <see cref="Dynamics.SteadyState"/> gives it: the one Lyapunov solver on the stage's
@@ -83,7 +83,7 @@ public sealed class SweepPoint
         if (_steady[stage] is { } known) return known;
         if (_dynamics is not null || !Solvable() || !Stability(stage).IsStable) return _steady[stage] = Dynamics.SteadyState(stage);
         var model = Model(stage);
-        return _steady[stage] = new GaussianState(Vector<double>.Build.Dense(model.Dimension), Operator(stage).Solve(model.Diffusion).Covariance,
+        return _steady[stage] = new GaussianState(Vector<double>.Build.Dense(model.Dimension), Drift(stage).Operator.Solve(model.Diffusion).Covariance,
             model.ModeNames);
     }
 
@@ -123,20 +123,20 @@ public sealed class SweepPoint
 internal sealed class SweepTemplate(Scenario template)
 {
     // Enough for the distinct drifts of any grid a table is read from; past it drifts are analysed per point.
-    private const int MaxOperators = 4096;
+    private const int MaxDrifts = 4096;
 
-    private readonly ConcurrentDictionary<DriftKey, LyapunovOperator> _operators = new();
+    private readonly ConcurrentDictionary<DriftKey, AnalysedDrift> _drifts = new();
 
     /// <summary>The template's models, and the fast path to each point's.</summary>
     public StageModels Models { get; } = new(template);
 
     /// <summary>The analysed drift (a race analyses the same drift twice; either copy serves).</summary>
-    public LyapunovOperator Operator(Matrix<double> drift)
+    public AnalysedDrift Drift(Matrix<double> drift)
     {
         var key = new DriftKey(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray());
-        if (_operators.TryGetValue(key, out var known)) return known;
-        var analysed = LyapunovOperator.Of(drift);
-        if (_operators.Count < MaxOperators) _operators.TryAdd(key, analysed);
+        if (_drifts.TryGetValue(key, out var known)) return known;
+        var analysed = new AnalysedDrift(LyapunovOperator.Of(drift));
+        if (_drifts.Count < MaxDrifts) _drifts.TryAdd(key, analysed);
         return analysed;
     }
 
@@ -156,6 +156,14 @@ internal sealed class SweepTemplate(Scenario template)
             return hash.ToHashCode();
         }
     }
+}
+
+/// <summary>A stage's drift analysed: its Lyapunov operator and the stability read from it.</summary>
+internal sealed class AnalysedDrift(LyapunovOperator drift)
+{
+    public LyapunovOperator Operator { get; } = drift;
+
+    public Stability Stability { get; } = Stability.Of(drift);
 }
 
 /// <summary>A metric bound to a sweep: its canonical spec (<c>steady_squeezing_db:squeeze</c>), column name (unit in the name) and function.</summary>
