@@ -16,16 +16,21 @@ public sealed class SweepReport : IReport<SweepResult>
     {
         Directory.CreateDirectory(directory);
         string table = Path.Combine(directory, TableName(result.Shard));
-        await SweepTable.WriteAsync(table, result.Description, result.Rows, result.Metadata(), cancel);
-        SweepChunkStore.Discard(directory, result.Shard);
-        var paths = new List<string> { Path.GetFullPath(table) };
-        if (result.Shard is null)
+        // The plot depends on the rows alone, so it is drawn beside the table, on the other core.
+        var plot = result.Shard is null
+            ? Task.Run(() => SweepPlot.Save(result.Description, result.Rows, Name(result), result.Provenance.ScenarioText, Path.Combine(directory, "sweep")), cancel)
+            : Task.FromResult<string[]>([]);
+        try
         {
-            cancel.ThrowIfCancellationRequested();
-            paths.AddRange(SweepPlot.Save(result.Description, result.Rows, Name(result), result.Provenance.ScenarioText, Path.Combine(directory, "sweep"))
-                .Select(Path.GetFullPath));
+            await SweepTable.WriteAsync(table, result.Description, result.Rows, result.Metadata(), cancel);
         }
-        return paths;
+        catch
+        {
+            await Task.WhenAny(plot);   // nothing is written after the report has returned
+            throw;
+        }
+        SweepChunkStore.Discard(directory, result.Shard);
+        return [Path.GetFullPath(table), .. (await plot).Select(Path.GetFullPath)];
     }
 
     private static string Name(SweepResult result) => result.Provenance.ScenarioName.Length > 0 ? result.Provenance.ScenarioName : "sweep";
