@@ -17,6 +17,9 @@ public static partial class SweepTable
     /// <summary>Rows per row group; fixed, so that equal rows give equal files however they were computed.</summary>
     public const int RowGroupRows = 1 << 16;
 
+    /// <summary>Tables from this many rows on are Zstandard-compressed; smaller ones are written plain.</summary>
+    public const int CompressFromRows = 4096;
+
     /// <summary>The columns of a sweep's table, in file order.</summary>
     public static IReadOnlyList<ColumnSpec> Columns(SweepDescription d) =>
     [
@@ -32,7 +35,9 @@ public static partial class SweepTable
     {
         var sorted = rows.OrderBy(r => r.Point).ToArray();
         int parameters = description.Axes.Length, metrics = description.Metrics.Length;
-        await using var table = await ParquetTable.CreateAsync(path, Columns(description), metadata, cancel);
+        // Compressing a few thousand rows saves kilobytes and costs more than writing them (a codec per column chunk).
+        var compression = sorted.Length < CompressFromRows ? ParquetCompression.None : ParquetCompression.Zstd;
+        await using var table = await ParquetTable.CreateAsync(path, Columns(description), metadata, cancel, compression);
         for (int start = 0; start < sorted.Length || start == 0; start += RowGroupRows)
         {
             int n = Math.Min(RowGroupRows, sorted.Length - start);

@@ -103,9 +103,12 @@ public sealed class SweepPoint
             solvable = AllFinite(Model(i).Drift) && AllFinite(Model(i).Diffusion);
         for (int i = 0; i < stages.Length && solvable; i++)
             solvable = !(Stability(i).GrowthRate * stages[i].DurationS > Dynamics.MaxGrowthFolds);
-        if (solvable && Scenario.Initial.Values.Any(s => s is InitialState.Steady)) solvable = Stability(0).IsStable;
+        if (solvable && (_template?.StartsSteady(Scenario) ?? StartsSteady(Scenario))) solvable = Stability(0).IsStable;
         return (_solvable = solvable).Value;
     }
+
+    /// <summary>Whether some mode starts in the first stage's steady state.</summary>
+    internal static bool StartsSteady(Scenario scenario) => scenario.Initial.Values.Any(s => s is InitialState.Steady);
 
     private static bool AllFinite(Matrix<double> m)
     {
@@ -129,6 +132,11 @@ internal sealed class SweepTemplate(Scenario template)
 
     /// <summary>The template's models, and the fast path to each point's.</summary>
     public StageModels Models { get; } = new(template);
+
+    private readonly bool _startsSteady = SweepPoint.StartsSteady(template);
+
+    /// <summary><see cref="SweepPoint.StartsSteady"/>, read once for the points that keep the template's initial states.</summary>
+    public bool StartsSteady(Scenario point) => ReferenceEquals(point.Initial, template.Initial) ? _startsSteady : SweepPoint.StartsSteady(point);
 
     /// <summary>The analysed drift (a race analyses the same drift twice; either copy serves).</summary>
     public AnalysedDrift Drift(Matrix<double> drift)
