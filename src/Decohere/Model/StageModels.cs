@@ -1,3 +1,5 @@
+using System.Collections.Concurrent;
+using Decohere.Core;
 using Decohere.Scenarios;
 
 namespace Decohere.Model;
@@ -8,7 +10,8 @@ namespace Decohere.Model;
 /// instance). In the full model, a copy that differs only in bath occupancies or tone couplings redoes just those terms
 /// (a mode's damping rows of C, a pair's entries of 𝐇) in the template's <see cref="QuadraticSystem"/> before the one map
 /// to (A, D); the sums run in the order <see cref="ModelBuilder"/> uses, so the models are bit for bit those of a new
-/// build. Any other difference is built again by <see cref="ModelBuilder.Build"/>. Thread-safe.
+/// build, and a stage's model is kept under those occupancies and couplings for the next copy with the same ones. Any
+/// other difference is built again by <see cref="ModelBuilder.Build"/>. Thread-safe.
 /// </summary>
 public sealed class StageModels
 {
@@ -17,6 +20,10 @@ public sealed class StageModels
     private readonly LinearModel[] _models;
     private readonly double[][] _occupancies;
     private readonly Dictionary<string, int> _index;
+    private readonly ConcurrentDictionary<ExactValues, LinearModel> _built = new();
+
+    // Models kept for reuse, at most; past it they are built per copy.
+    private const int MaxBuilt = 4096;
 
     /// <summary>Builds the template's models.</summary>
     public StageModels(Scenario template)
@@ -47,22 +54,29 @@ public sealed class StageModels
             || !SameTonesButCouplings(stageNow, stageThen))
             return ModelBuilder.Build(copy, stageNow);
 
+        // The model is now a function of the stage's bath occupancies and couplings: built once per distinct set.
+        int modes = copy.Modes.Length, tones = stageNow.Tones.Length;
+        var inputs = new double[modes + tones + 1];
+        for (int j = 0; j < modes; j++) inputs[j] = ModelBuilder.BathOccupancy(copy, copy.Modes[j], stageNow);
+        for (int k = 0; k < tones; k++) inputs[modes + k] = stageNow.Tones[k].CouplingHz;
+        inputs[^1] = stage;
+        var key = new ExactValues(inputs);
+        if (_built.TryGetValue(key, out var known)) return known;
+
         QuadraticSystem? system = null;
         var before = _occupancies[stage];
-        for (int j = 0; j < copy.Modes.Length; j++)
-        {
-            var mode = copy.Modes[j];
-            double occupancy = ModelBuilder.BathOccupancy(copy, mode, stageNow);
-            if (!Same(occupancy, before[j])) (system ??= _systems[stage].Copy()).RedoDamping(j, mode.DecayRate, occupancy);
-        }
-        for (int k = 0; k < stageNow.Tones.Length; k++)
+        for (int j = 0; j < modes; j++)
+            if (!Same(inputs[j], before[j])) (system ??= _systems[stage].Copy()).RedoDamping(j, copy.Modes[j].DecayRate, inputs[j]);
+        for (int k = 0; k < tones; k++)
         {
             if (Same(stageNow.Tones[k].CouplingHz, stageThen.Tones[k].CouplingHz)) continue;
             int a = _index[stageNow.Tones[k].Cavity], b = _index[stageNow.Tones[k].Mechanical];
             (system ??= _systems[stage].Copy()).ClearPair(a, b);
             ModelBuilder.AddBilinearTerms(copy, stageNow, system, _index, (x, y) => (x == a && y == b) || (x == b && y == a));
         }
-        return system?.ToLinearModel() ?? _models[stage];
+        var model = system?.ToLinearModel() ?? _models[stage];
+        if (_built.Count < MaxBuilt) _built.TryAdd(key, model);
+        return model;
     }
 
     private static bool Same(double x, double y) => BitConverter.DoubleToInt64Bits(x) == BitConverter.DoubleToInt64Bits(y);

@@ -1,6 +1,5 @@
 using System.Collections.Concurrent;
 using System.Collections.Immutable;
-using System.Runtime.InteropServices;
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
 using Decohere.Core;
@@ -128,7 +127,7 @@ internal sealed class SweepTemplate(Scenario template)
     // Enough for the distinct drifts of any grid a table is read from; past it drifts are analysed per point.
     private const int MaxDrifts = 4096;
 
-    private readonly ConcurrentDictionary<DriftKey, AnalysedDrift> _drifts = new();
+    private readonly ConcurrentDictionary<ExactValues, AnalysedDrift> _drifts = new();
 
     /// <summary>The template's models, and the fast path to each point's.</summary>
     public StageModels Models { get; } = new(template);
@@ -141,28 +140,11 @@ internal sealed class SweepTemplate(Scenario template)
     /// <summary>The analysed drift (a race analyses the same drift twice; either copy serves).</summary>
     public AnalysedDrift Drift(Matrix<double> drift)
     {
-        var key = new DriftKey(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray());
+        var key = new ExactValues(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray());
         if (_drifts.TryGetValue(key, out var known)) return known;
         var analysed = new AnalysedDrift(LyapunovOperator.Of(drift));
         if (_drifts.Count < MaxDrifts) _drifts.TryAdd(key, analysed);
         return analysed;
-    }
-
-    private readonly struct DriftKey(double[] entries) : IEquatable<DriftKey>
-    {
-        private readonly double[] _entries = entries;
-
-        public bool Equals(DriftKey other) =>
-            MemoryMarshal.Cast<double, long>(_entries).SequenceEqual(MemoryMarshal.Cast<double, long>(other._entries));
-
-        public override bool Equals(object? obj) => obj is DriftKey other && Equals(other);
-
-        public override int GetHashCode()
-        {
-            var hash = new HashCode();
-            hash.AddBytes(MemoryMarshal.AsBytes(_entries.AsSpan()));
-            return hash.ToHashCode();
-        }
     }
 }
 
