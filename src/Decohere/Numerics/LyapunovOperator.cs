@@ -215,7 +215,7 @@ public sealed class LyapunovOperator
     private double[] Residual(double[] v, double[] d)
     {
         int n = N;
-        double[] av = new double[n * n];
+        double[] r = new double[n * n];
         if (n < MatrixExponential.BlockedMinDimension)
         {
             for (int j = 0; j < n; j++)
@@ -223,19 +223,19 @@ public sealed class LyapunovOperator
                 for (int k = 0; k < n; k++)
                 {
                     double x = v[k + j * n];
-                    for (int i = 0; i < n; i++) av[i + j * n] += _drift[i + k * n] * x;
+                    for (int i = 0; i < n; i++) r[i + j * n] += _drift[i + k * n] * x;
                 }
             }
         }
         else
         {
-            DenseProduct.Multiply(n, n, n, 1.0, _drift, 0, n, false, v, 0, n, false, 0.0, av, 0, n);
+            DenseProduct.Multiply(n, n, n, 1.0, _drift, 0, n, false, v, 0, n, false, 0.0, r, 0, n);
         }
 
-        double[] r = new double[n * n];
+        // A V becomes A V + (A V)ᵀ + D in place, both triangles from the same sum.
         for (int j = 0; j < n; j++)
         {
-            for (int i = 0; i < n; i++) r[i + j * n] = av[i + j * n] + av[j + i * n] + d[i + j * n];
+            for (int i = 0; i <= j; i++) r[i + j * n] = r[j + i * n] = r[i + j * n] + r[j + i * n] + d[i + j * n];
         }
 
         return r;

@@ -49,19 +49,31 @@ internal static class Validation
     /// </summary>
     public static double[] SymmetrisedDiffusion(double[] d, int n, string name)
     {
-        double[] difference = new double[n * n];
         double[] symmetric = new double[n * n];
+        double asymMax = 0;
         for (int j = 0; j < n; j++)
         {
             for (int i = 0; i < n; i++)
             {
-                difference[i + j * n] = d[i + j * n] - d[j + i * n];
                 symmetric[i + j * n] = (d[i + j * n] + d[j + i * n]) * 0.5;
+                asymMax = Math.Max(asymMax, Math.Abs(d[i + j * n] - d[j + i * n]));
+            }
+        }
+
+        if (asymMax == 0) return symmetric;
+        // ‖D − Dᵀ‖_F, scaled by its largest entry as in FrobeniusNorm.
+        double sum = 0;
+        for (int j = 0; j < n; j++)
+        {
+            for (int i = 0; i < n; i++)
+            {
+                double y = (d[i + j * n] - d[j + i * n]) / asymMax;
+                sum += y * y;
             }
         }
 
         double scale = FrobeniusNorm(d);
-        double asym = FrobeniusNorm(difference);
+        double asym = double.IsInfinity(asymMax) ? asymMax : asymMax * Math.Sqrt(sum);
         if (asym > 1e-8 * scale)
         {
             throw new ArgumentException(
