@@ -3,13 +3,14 @@
 A V + V Aᵀ + D = 0 (scipy.linalg.solve_continuous_lyapunov, Bartels–Stewart), the drum's smaller principal variance,
 10·log10(½ / var_min); the table written to disk (.npy). The same in batch form: A for each coupling and D for each
 temperature built once, the 400 equations in Kronecker form, (I ⊗ A + A ⊗ I) vec V = −vec D (R. Bellman, Introduction
-to Matrix Analysis (1960), ch. 12), solved by one numpy.linalg.solve over the stack. Run: /usr/bin/python3 tools/reference/sweep.py
+to Matrix Analysis (1960), ch. 12), solved by one numpy.linalg.solve over the stack. Run: /usr/bin/python3 tools/reference/sweep.py; with `--once PATH` the
+batched sweep runs once and writes PATH (numpy alone is imported), as the `sweep` figure times it as a process.
 """
 import os
+import sys
 import tempfile
 
 import numpy as np
-from scipy.linalg import solve_continuous_lyapunov
 
 from common import demo, timed
 
@@ -18,6 +19,8 @@ TEMPERATURE = np.logspace(np.log10(5e-3), np.log10(100e-3), 20)
 
 
 def sweep(path):
+    from scipy.linalg import solve_continuous_lyapunov
+
     rows = []
     for point, (blue, temperature) in enumerate((b, t) for b in BLUE for t in TEMPERATURE):
         stages, _ = demo(blue_khz=blue, temperature_k=temperature)
@@ -49,7 +52,9 @@ def sweep_batched(path):
     return table
 
 
-if __name__ == "__main__":
+if __name__ == "__main__" and sys.argv[1:2] == ["--once"]:
+    sweep_batched(sys.argv[2])
+elif __name__ == "__main__":
     path = os.path.join(tempfile.gettempdir(), f"decohere-reference-sweep-{os.getpid()}.npy")
     t = timed("reference: sweep, 20 x 20 steady squeezing", lambda: sweep(path), rate=lambda r, s: f"{len(r) / s:.0f} points/s")
     print(f"  steady squeezing at 18 kHz-ish, 15 mK-ish: {t[np.argmin(abs(t[:, 1] - 18e3) + abs(t[:, 2] - 15e-3) * 1e6), 3]:.4f} dB")
