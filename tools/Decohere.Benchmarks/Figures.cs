@@ -187,7 +187,7 @@ public static class Figures
         var bench = new SweepSteadySqueezing();
         bench.Setup();
         var t = Time(repeat, () => bench.Run().GetAwaiter().GetResult(), SweepWarmups);
-        Print("sweep: 20 x 20 steady squeezing (chunks, table, plot)", t, $"{400 / t.Median:F0} points/s");
+        Print("sweep: 20 x 20 steady squeezing (store, table, plot)", t, $"{400 / t.Median:F0} points/s");
         var sweep = Sweep.Parse(ScenarioLoader.Demo(),
             ["stages.squeeze.tones[1].coupling=2kHz:24kHz:20", "modes.drum.bath.temperature=5mK:100mK:20:log"], false, "steady_squeezing_db:squeeze");
         string path = Temp("sweep.parquet");

@@ -7,7 +7,7 @@ namespace Decohere.Benchmarks;
 
 /// <summary>
 /// A 20 × 20 sweep of the demo (blue coupling × bath temperature): steady-state squeezing of the squeeze stage, run in
-/// parallel and written to sweep.parquet with its chunk files (target &lt; 2 s on 2 cores).
+/// parallel with the chunk store a resumable run keeps, and written to sweep.parquet and its plot (PNG and SVG).
 /// </summary>
 public class SweepSteadySqueezing
 {
