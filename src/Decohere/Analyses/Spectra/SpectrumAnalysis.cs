@@ -193,11 +193,12 @@ public static class SpectrumAnalysis
 
     private static MathNet.Numerics.LinearAlgebra.Matrix<double> SteadyState(LinearModel model, string stage)
     {
-        var stability = Stability.Of(model.Drift);
+        var drift = LyapunovOperator.Of(model.Drift);
+        var stability = Stability.Of(drift);
         if (!stability.IsStable)
             throw new UnstableDynamicsException(stability.GrowthRate,
                 $"stage '{stage}' has no steady state (it grows at {stability.GrowthRate:G4} s⁻¹), so it has no stationary spectrum");
-        return Lyapunov.Solve(model.Drift, model.Diffusion).Covariance;
+        return drift.Solve(model.Diffusion).Covariance;
     }
 
     /// <summary>
