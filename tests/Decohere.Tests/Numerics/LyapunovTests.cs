@@ -29,6 +29,29 @@ public class LyapunovTests
     }
 
     [Theory]
+    [InlineData(LyapunovMethod.Automatic)]
+    [InlineData(LyapunovMethod.BartelsStewart)]
+    [InlineData(LyapunovMethod.SmithDoubling)]
+    public void OneOperatorServesManyDiffusionsOnManyThreads(LyapunovMethod method)
+    {
+        // A damped rotating mode, A = [[−γ/2, ω], [−ω, −γ/2]], with D = γ(n + ½)I has V = (n + ½)I for every ω (worked by
+        // hand: A V + V Aᵀ = −γV for V ∝ I, since the rotation is antisymmetric). One factorisation serves every n, in parallel.
+        double gamma = 0.37, omega = 5.1;
+        var a = Matrix<double>.Build.DenseOfArray(new[,] { { -gamma / 2, omega }, { -omega, -gamma / 2 } });
+        var drift = LyapunovOperator.Of(a, method);
+        double[] occupancies = [.. Enumerable.Range(0, 64).Select(k => 0.01 * k * k)];
+        var solved = new Matrix<double>[occupancies.Length];
+        Parallel.For(0, occupancies.Length, k => solved[k] = drift.Solve(Matrix<double>.Build.DenseIdentity(2) * (gamma * (occupancies[k] + 0.5))).Covariance);
+        for (int k = 0; k < occupancies.Length; k++)
+        {
+            var expected = Matrix<double>.Build.DenseIdentity(2) * (occupancies[k] + 0.5);
+            Assert.True((solved[k] - expected).FrobeniusNorm() <= 1e-12 * (occupancies[k] + 0.5), $"n = {occupancies[k]}");
+        }
+        Assert.True(drift.Decays);
+        Assert.Equal(-gamma / 2, drift.MaxRealPart, 1e-14);
+    }
+
+    [Theory]
     [InlineData("coupled-4", LyapunovMethod.Kronecker)]
     [InlineData("coupled-4", LyapunovMethod.Eigendecomposition)]
     [InlineData("coupled-4", LyapunovMethod.SmithDoubling)]
