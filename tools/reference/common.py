@@ -6,6 +6,7 @@ here gives: damping γ into occupancy n → A −γ/2·I, D γ(n + ½)·I; red t
 blue tone G(a†b† + ab) → 𝐇 blocks G·diag(1, −1).
 """
 import math
+import os
 import statistics
 import time
 
@@ -43,8 +44,9 @@ def demo(blue_khz=18.0, temperature_k=15e-3):
     return stages, v0
 
 
-def timed(label, body, repeat=5, rate=None):
-    """One warm-up, then `repeat` calls: prints median and best wall time (ms) and the rate rate(result, seconds)."""
+def timed(label, body, repeat=None, rate=None):
+    """One warm-up, then `repeat` calls (default $REFERENCE_REPEAT or 5): prints median and best wall time (ms) and the rate rate(result, seconds)."""
+    repeat = repeat or int(os.environ.get("REFERENCE_REPEAT", "5"))
     result = body()
     times = []
     for _ in range(repeat):
