@@ -75,7 +75,7 @@ public static class CalibrationPlot
         plot.XLabel("prepared occupancy n (quanta)");
         plot.YLabel("measured variance (measured units)");
         plot.Title($"noise calibration from {Path.GetFileName(r.Source)}: {r.Points.Length} points, p = {r.Goodness.PValue:G3}");
-        plot.ShowLegend(Edge.Bottom);
+        Legends.BelowIfAny(plot);
         return Figure.Save(plot, stem, Figure.Width, 820);
     }
 }

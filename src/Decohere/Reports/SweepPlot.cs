@@ -117,9 +117,9 @@ public static class SweepPlot
             z[(int)(r.Point / ny), (int)(r.Point % ny)] = r.Metrics[metric] is { } v ? unit.From(v) : double.NaN;
         var plot = Figure.New();
         HeatMap.Add(plot, x, y, z, label.Label(unit));
-        // A legend only for a contour drawn: an empty legend panel on an edge leaves the SVG blank.
-        if (Level(d.Metrics[metric].Spec) is { } level && HeatMap.Contour(plot, x, y, z, level, LevelName(d.Metrics[metric].Spec, level)))
-            plot.ShowLegend(Edge.Bottom);
+        if (Level(d.Metrics[metric].Spec) is { } level)
+            HeatMap.Contour(plot, x, y, z, level, LevelName(d.Metrics[metric].Spec, level));
+        Legends.BelowIfAny(plot);
         ax.Apply(plot.Axes.Bottom, x);
         ay.Apply(plot.Axes.Left, y);
         plot.Title(label.Name);

@@ -136,7 +136,7 @@ public sealed class ToleranceReport : IReport<ToleranceResult>
         plot.XLabel("added noise n_add (quanta, input-referred)");
         plot.YLabel("shots per delay");
         plot.Title(name);
-        plot.ShowLegend(Edge.Bottom);
+        Plotting.Legends.BelowIfAny(plot);
         return plot;
     }
 }
