@@ -124,7 +124,7 @@ public sealed class SweepPoint
 /// </summary>
 internal sealed class SweepTemplate(Scenario template)
 {
-    // Enough for the distinct drifts of any grid a table is read from; past it drifts are analysed per point.
+    // Distinct drifts kept at most; past it, a point's drift is analysed for that point alone.
     private const int MaxDrifts = 4096;
 
     private readonly ConcurrentDictionary<ExactValues, AnalysedDrift> _drifts = new();

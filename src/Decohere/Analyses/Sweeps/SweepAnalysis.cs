@@ -125,9 +125,8 @@ public sealed record SweepResult(
 
 /// <summary>
 /// Runs a sweep's points in parallel on the local cores. Finished points go to the store while the run goes on (with
-/// automatic chunks about every <see cref="SaveInterval"/>), so a stopped or killed run keeps all but the last few seconds'
-/// work; with <see cref="SweepSettings.Resume"/> the next run takes
-/// them back and computes only the rest.
+/// automatic chunks about every <see cref="SaveInterval"/>), so a stopped or killed run keeps all but its last few
+/// seconds of work; with <see cref="SweepSettings.Resume"/> the next run takes them back and computes only the rest.
 /// </summary>
 public static class SweepAnalysis
 {
