@@ -16,16 +16,11 @@ public static class HeatMap
         var r = range ?? new ScottPlot.Range(finite.Min(), finite.Max() > finite.Min() ? finite.Max() : finite.Min() + 1);
         IColormap colormap = new ScottPlot.Colormaps.Viridis();
         double[] xe = Edges(x), ye = Edges(y);
+        var colours = new Color?[x.Length, y.Length];
         for (int i = 0; i < x.Length; i++)
             for (int j = 0; j < y.Length; j++)
-            {
-                if (!double.IsFinite(z[i, j])) continue;
-                var cell = plot.Add.Rectangle(xe[i], xe[i + 1], ye[j], ye[j + 1]);
-                var colour = colormap.GetColor(Math.Clamp((z[i, j] - r.Min) / (r.Max - r.Min), 0, 1));
-                cell.FillColor = colour;
-                cell.LineColor = colour;
-                cell.LineWidth = 0.5f;
-            }
+                if (double.IsFinite(z[i, j])) colours[i, j] = colormap.GetColor(Math.Clamp((z[i, j] - r.Min) / (r.Max - r.Min), 0, 1));
+        plot.Add.Plottable(new Cells(xe, ye, colours));
         plot.Axes.SetLimits(xe[0], xe[^1], ye[0], ye[^1]);
         if (!colourBar) return r;
         // The colour bar needs a colour source: a heat map of the range's two ends, drawn nowhere.
@@ -68,6 +63,33 @@ public static class HeatMap
             entry.LegendText = legend;
         }
         return segments.Count > 0;
+    }
+
+    /// <summary>
+    /// The cells as one plottable: each a rectangle filled and outlined (half a pixel, so neighbours leave no seam) in its
+    /// colour, drawn in one pass. As separate rectangles, ScottPlot's work per plottable cost more than the drawing.
+    /// </summary>
+    private sealed class Cells(double[] xe, double[] ye, Color?[,] colours) : IPlottable
+    {
+        public bool IsVisible { get; set; } = true;
+
+        public IAxes Axes { get; set; } = new Axes();
+
+        public IEnumerable<LegendItem> LegendItems => [];
+
+        public AxisLimits GetAxisLimits() => new(xe[0], xe[^1], ye[0], ye[^1]);
+
+        public void Render(RenderPack rp)
+        {
+            using var paint = new SkiaSharp.SKPaint { IsAntialias = true, Style = SkiaSharp.SKPaintStyle.StrokeAndFill, StrokeWidth = 0.5f };
+            for (int i = 0; i < xe.Length - 1; i++)
+                for (int j = 0; j < ye.Length - 1; j++)
+                {
+                    if (colours[i, j] is not { } colour) continue;
+                    paint.Color = colour.ToSKColor();
+                    rp.Canvas.DrawRect(Axes.GetPixelRect(new CoordinateRect(xe[i], xe[i + 1], ye[j], ye[j + 1])).ToSKRect(), paint);
+                }
+        }
     }
 
     // Cell edges halfway between neighbouring points; the outer cells as wide as their inner half.
