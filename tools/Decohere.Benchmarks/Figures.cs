@@ -66,16 +66,13 @@ public static class Figures
         for (int k = 0; k < warmups; k++) body();
         var wall = new double[repeat];
         var cpu = new double[repeat];
-        using var process = Process.GetCurrentProcess();
         for (int k = 0; k < repeat; k++)
         {
-            process.Refresh();
-            var cpu0 = process.TotalProcessorTime;
+            double cpu0 = Usage.OwnCpu();
             var watch = Stopwatch.StartNew();
             body();
             wall[k] = watch.Elapsed.TotalSeconds;
-            process.Refresh();
-            cpu[k] = (process.TotalProcessorTime - cpu0).TotalSeconds;
+            cpu[k] = Usage.OwnCpu() - cpu0;
         }
         Array.Sort(wall);
         Array.Sort(cpu);
@@ -202,9 +199,52 @@ public static class Figures
         Print("  the same on one thread", serial, $"{400 / serial.Median:F0} points/s");
         File.Delete(path);
         bench.Cleanup();
+        SweepProcesses(repeat);
     }
 
     private const int SweepWarmups = 40;
+
+    /// <summary>
+    /// The sweep as a user runs it, a new process each time: the native <c>decohere sweep</c> (points, sweep.parquet and
+    /// the plot as PNG and SVG) and <c>sweep.py --once</c> (the batched solve and a .npy, numpy alone imported) in turn in
+    /// every round; medians of wall and CPU time and the median of the per-round ratios.
+    /// </summary>
+    private static void SweepProcesses(int repeat)
+    {
+        string native = Options.GetValueOrDefault("native")
+            ?? Path.Combine(Files.Root, "src", "Decohere.Cli", "bin", "Release", "net10.0", "linux-x64", "publish", "decohere");
+        if (!File.Exists(native))
+        {
+            Console.WriteLine($"sweep as processes: no native build at {native} (dotnet publish -c Release src/Decohere.Cli, or --native PATH)");
+            return;
+        }
+        string dir = Temp("sweep-processes");
+        (string Name, string File, string[] Args)[] programs =
+        [
+            ("decohere sweep, native (table, plot)", native, ["sweep", "--vary", "stages.squeeze.tones[1].coupling=2kHz:24kHz:20",
+                "--vary", "modes.drum.bath.temperature=5mK:100mK:20:log", "--metrics", "steady_squeezing_db:squeeze", "--out", dir, "-q"]),
+            ("sweep.py --once (batched, .npy)", Options.GetValueOrDefault("python") ?? "/usr/bin/python3",
+                [Path.Combine(Files.Root, "tools", "reference", "sweep.py"), "--once", Path.Combine(dir, "sweep.npy")]),
+        ];
+        var wall = programs.Select(_ => new List<double>()).ToArray();
+        var cpu = programs.Select(_ => new List<double>()).ToArray();
+        for (int round = -1; round < repeat; round++)
+            for (int p = 0; p < programs.Length; p++)
+            {
+                var (w, c, _) = Usage.Process(programs[p].File, programs[p].Args);
+                if (round < 0) continue;   // the first round warms the disk cache
+                wall[p].Add(w);
+                cpu[p].Add(c);
+            }
+        Directory.Delete(dir, recursive: true);
+        double ratio = Usage.Median(wall[1].Zip(wall[0], (python, ours) => python / ours));
+        for (int p = 0; p < programs.Length; p++)
+        {
+            string paired = p == 0 ? string.Create(CultureInfo.InvariantCulture, $"  numpy / this, paired: {ratio:F2}x") : "";
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"sweep as processes: {programs[p].Name,-31} median {Usage.Median(wall[p]) * 1e3,8:F1} ms  best {wall[p].Min() * 1e3,8:F1} ms  cpu {Usage.Median(cpu[p]) * 1e3,8:F1} ms{paired}"));
+        }
+    }
 
     /// <summary>
     /// Shots written per second: the writers alone on prepared batches of the sampler's size (the hand-made plain writer
