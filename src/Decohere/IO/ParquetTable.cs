@@ -7,8 +7,9 @@ namespace Decohere.IO;
 /// <summary>
 /// A column of a table to write: name (with its unit, e.g. time_s) and CLR element type. <see cref="Dictionary"/> stores
 /// the column as a dictionary of its distinct values (on by default for text; for numbers that repeat, such as a delay
-/// constant over a row group); <see cref="Delta"/> stores an int64 column as differences (a counter costs a few bits per row).
-/// A text column with <see cref="Categories"/> may be given as int[] indices into them (no per-row text encoding).
+/// constant over a row group); <see cref="Delta"/> stores an int64 column as differences (a counter costs a few bits per row);
+/// <see cref="Split"/> stores float64 values byte plane by byte plane. A text column with <see cref="Categories"/> may be
+/// given as int[] indices into them (no per-row text encoding).
 /// </summary>
 public sealed record ColumnSpec(string Name, Type Type)
 {
@@ -20,6 +21,15 @@ public sealed record ColumnSpec(string Name, Type Type)
 
     /// <summary>DELTA_BINARY_PACKED encoding (int64 columns only).</summary>
     public bool Delta { get; init; }
+
+    /// <summary>
+    /// BYTE_STREAM_SPLIT encoding (float64 columns only): the k-th bytes of all values together, so the slowly varying sign,
+    /// exponent and leading mantissa bytes of a smooth series sit side by side for the compressor.
+    /// </summary>
+    public bool Split { get; init; }
+
+    /// <summary>Minimum and maximum per row group and page in the footer (on by default; readers skip data with them).</summary>
+    public bool Statistics { get; init; } = true;
 
     /// <summary>A float64 column.</summary>
     public static ColumnSpec Double(string name) => new(name, typeof(double));
@@ -119,6 +129,8 @@ public sealed class ParquetTable : IAsyncDisposable
                 throw new ArgumentException($"column {c.Name}: {c.Type.Name} is not supported (double, double?, long, int, bool, string)", nameof(columns));
             if (c.Delta && c.Type != typeof(long))
                 throw new ArgumentException($"column {c.Name}: delta encoding is for int64 columns", nameof(columns));
+            if (c.Split && c.Type != typeof(double))
+                throw new ArgumentException($"column {c.Name}: byte stream split is for float64 columns", nameof(columns));
             if (c.Categories is not null && c.Type != typeof(string))
                 throw new ArgumentException($"column {c.Name}: categories are for text columns", nameof(columns));
         }
@@ -177,6 +189,8 @@ public sealed class ParquetTable : IAsyncDisposable
         {
             if (c.Dictionary) builder.EnableDictionary(c.Name);
             if (c.Delta) builder.Encoding(c.Name, Encoding.DeltaBinaryPacked);
+            if (c.Split) builder.Encoding(c.Name, Encoding.ByteStreamSplit);
+            if (!c.Statistics) builder.DisableStatistics(c.Name);
         }
         return builder.Build();
     }

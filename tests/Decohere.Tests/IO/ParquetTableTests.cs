@@ -105,6 +105,42 @@ public class ParquetTableTests
     }
 
     [Fact]
+    public async Task SplitColumnsReadBackExactlyAndStatisticsAreWhereAsked()
+    {
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
+        var random = new Random(3);
+        // Smooth values and random ones (every bit pattern of the mantissa), with a sign change and subnormal-free extremes.
+        var smooth = Enumerable.Range(0, 3000).Select(i => 0.5 + 1e-3 * Math.Sin(i * 1e-3)).ToArray();
+        var rough = Enumerable.Range(0, 3000).Select(_ => (random.NextDouble() - 0.5) * Math.Pow(10, random.Next(-300, 300))).ToArray();
+        ColumnSpec[] columns =
+        [
+            ColumnSpec.Double("t"), ColumnSpec.Double("smooth") with { Split = true, Statistics = false },
+            ColumnSpec.Double("rough") with { Split = true },
+        ];
+        var t = Enumerable.Range(0, 3000).Select(i => i * 1e-6).ToArray();
+        await ParquetTable.WriteAsync(path, columns, [t, smooth, rough], new Dictionary<string, string>(), rowGroup: 2000);
+        string file = DuckDb.Literal(path);
+        var rows = DuckDb.Query($"SELECT t, smooth, rough FROM read_parquet({file}) ORDER BY t");
+        Assert.Equal(3000, rows.Count);
+        for (int i = 0; i < rows.Count; i++)
+        {
+            Assert.Equal(smooth[i], (double)rows[i][1]!);
+            Assert.Equal(rough[i], (double)rows[i][2]!);
+        }
+        // DuckDB's parquet_metadata: the column chunks' encodings and statistics (null where the file has none).
+        var chunks = DuckDb.Query($"SELECT path_in_schema, encodings, stats_min IS NOT NULL FROM parquet_metadata({file}) WHERE row_group_id = 0")
+            .ToDictionary(r => (string)r[0]!, r => (Encodings: (string)r[1]!, Statistics: (bool)r[2]!));
+        Assert.Contains("BYTE_STREAM_SPLIT", chunks["smooth"].Encodings);
+        Assert.Contains("BYTE_STREAM_SPLIT", chunks["rough"].Encodings);
+        Assert.DoesNotContain("BYTE_STREAM_SPLIT", chunks["t"].Encodings);
+        Assert.True(chunks["t"].Statistics);
+        Assert.True(chunks["rough"].Statistics);
+        Assert.False(chunks["smooth"].Statistics);
+        await Assert.ThrowsAsync<ArgumentException>(() => ParquetTable.WriteAsync(path, [ColumnSpec.Long("k") with { Split = true }], [new long[] { 1 }],
+            new Dictionary<string, string>()));
+    }
+
+    [Fact]
     public async Task TextGivenAsCategoryIndicesReadsAsText()
     {
         string dir = TestPaths.NewTempDirectory();
