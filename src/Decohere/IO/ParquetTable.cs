@@ -224,25 +224,63 @@ public sealed class ParquetTable : IAsyncDisposable
         for (int c = 0; c < _columns.Length; c++)
         {
             using var column = group.NextColumn();
-            var spec = _columns[c];
-            var data = columns[c];
-            int from = data.Length == 1 ? 0 : start;
-            switch (data)
-            {
-                case double[] d when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(d, from, rows, ref _values)); break;
-                case double?[] nd when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(nd, from, rows, ref _nullables)); break;
-                case double[] d when spec.Type == typeof(double): ((ColumnWriter<double>)column).WriteBatch(Span(d, from, rows, ref _values)); break;
-                case long[] l when spec.Type == typeof(long): ((ColumnWriter<long>)column).WriteBatch(Span(l, from, rows, ref _longs)); break;
-                case int[] i when spec.Type == typeof(int): ((ColumnWriter<int>)column).WriteBatch(Span(i, from, rows, ref _ints)); break;
-                case bool[] b when spec.Type == typeof(bool): ((ColumnWriter<bool>)column).WriteBatch(Span(b, from, rows, ref _bools)); break;
-                case string[] s when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, s.Length == 1, k => s[from + k].AsSpan()); break;
-                case ReadOnlyMemory<char>[] m when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, m.Length == 1, k => m[from + k].Span); break;
-                case int[] k when _categories[c] is { } categories: WriteCategories((ColumnWriter<ByteArray>)column, categories, Span(k, from, rows, ref _ints), spec.Name); break;
-                default:
-                    throw new ArgumentException($"column {spec.Name} ({spec.Type.Name}): unsupported array type {data.GetType().Name}", nameof(columns));
-            }
+            WriteColumn(column, c, columns[c], columns[c].Length == 1 ? 0 : start, rows);
         }
         RowCount += rows;
+    }
+
+    /// <summary>
+    /// Writes one row group of <paramref name="rows"/> rows in chunks as long as <paramref name="buffers"/> (one array per
+    /// column, of the types <see cref="WriteRowGroup(int, IReadOnlyList{Array})"/> takes, or of one element for a constant):
+    /// <paramref name="fill"/>(start, count) puts rows [start, start + count) into the first count entries of every buffer.
+    /// The columns' pages wait in memory until the group is complete (a buffered row group), so a few thousand rows of
+    /// buffers, reused and kept in the cache, serve a group of any size. With buffers a multiple of 1024 rows long the file
+    /// has the bytes whole columns give (the native writer checks its page size every 1024 values).
+    /// </summary>
+    public void WriteRowGroup(int rows, IReadOnlyList<Array> buffers, Action<int, int> fill)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(rows);
+        if (buffers.Count != _columns.Length)
+            throw new ArgumentException($"expected {_columns.Length} columns, got {buffers.Count}", nameof(buffers));
+        int chunk = buffers.Where(b => b.Length != 1).Select(b => b.Length).DefaultIfEmpty(rows).Min();
+        if (chunk < 1 && rows > 0) throw new ArgumentException("a buffer has no room for a row", nameof(buffers));
+        using var group = _writer.AppendBufferedRowGroup();
+        var writers = new ColumnWriter[_columns.Length];
+        try
+        {
+            for (int c = 0; c < writers.Length; c++) writers[c] = group.Column(c);
+            for (int start = 0; start < rows; start += chunk)
+            {
+                int count = Math.Min(chunk, rows - start);
+                fill(start, count);
+                for (int c = 0; c < writers.Length; c++) WriteColumn(writers[c], c, buffers[c], 0, count);
+            }
+        }
+        finally
+        {
+            foreach (var w in writers) w?.Dispose();
+        }
+        RowCount += rows;
+    }
+
+    // Rows [from, from + rows) of one column's array (a one-element array is the same value on every row).
+    private void WriteColumn(ColumnWriter column, int c, Array data, int from, int rows)
+    {
+        var spec = _columns[c];
+        switch (data)
+        {
+            case double[] d when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(d, from, rows, ref _values)); break;
+            case double?[] nd when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(nd, from, rows, ref _nullables)); break;
+            case double[] d when spec.Type == typeof(double): ((ColumnWriter<double>)column).WriteBatch(Span(d, from, rows, ref _values)); break;
+            case long[] l when spec.Type == typeof(long): ((ColumnWriter<long>)column).WriteBatch(Span(l, from, rows, ref _longs)); break;
+            case int[] i when spec.Type == typeof(int): ((ColumnWriter<int>)column).WriteBatch(Span(i, from, rows, ref _ints)); break;
+            case bool[] b when spec.Type == typeof(bool): ((ColumnWriter<bool>)column).WriteBatch(Span(b, from, rows, ref _bools)); break;
+            case string[] s when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, s.Length == 1, k => s[from + k].AsSpan()); break;
+            case ReadOnlyMemory<char>[] m when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, m.Length == 1, k => m[from + k].Span); break;
+            case int[] k when _categories[c] is { } categories: WriteCategories((ColumnWriter<ByteArray>)column, categories, Span(k, from, rows, ref _ints), spec.Name); break;
+            default:
+                throw new ArgumentException($"column {spec.Name} ({spec.Type.Name}): unsupported array type {data.GetType().Name}", nameof(data));
+        }
     }
 
     // Rows [from, from + rows) of the array, or its single value repeated into a reused buffer.
