@@ -17,7 +17,7 @@ namespace Decohere.Benchmarks;
 /// (200,006 rows, 5 × 2000 shots, estimates, summary, PNG and SVG plots), each call a new process, start-up included.
 /// The native build (<c>dotnet publish -c Release</c> of src/Decohere.Cli), the JIT build and
 /// tools/reference/run_job.py run in turn in every round, so the three see the same load on a shared machine; medians
-/// of wall and CPU time, and the median of the per-round ratios. Then the time of each phase inside one process (JIT,
+/// of wall and CPU time and of minor page faults, and the median of the per-round ratios. Then the time of each phase inside one process (JIT,
 /// warmed up), which is where the time of the job goes.
 /// </summary>
 public static class JobFigure
@@ -49,13 +49,15 @@ public static class JobFigure
 
             var wall = programs.Select(_ => new List<double>()).ToArray();
             var cpu = programs.Select(_ => new List<double>()).ToArray();
+            var faults = programs.Select(_ => new List<double>()).ToArray();
             for (int round = -1; round < repeat; round++)
                 for (int p = 0; p < programs.Count; p++)
                 {
-                    var (w, c) = TimeProcess(programs[p].File, programs[p].Args);
+                    var (w, c, f) = TimeProcess(programs[p].File, programs[p].Args);
                     if (round < 0) continue;   // the first round warms the disk cache
                     wall[p].Add(w);
                     cpu[p].Add(c);
+                    faults[p].Add(f);
                 }
             int reference = programs.Count - 1;
             for (int p = 0; p < programs.Count; p++)
@@ -63,7 +65,7 @@ public static class JobFigure
                 var ratio = Median(wall[reference].Zip(wall[p], (r, o) => r / o));
                 string paired = p == reference ? "" : string.Create(CultureInfo.InvariantCulture, $"  numpy / this, paired: {ratio:F2}x");
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                    $"job: {programs[p].Name,-28} median {Median(wall[p]) * 1e3,8:F1} ms  best {wall[p].Min() * 1e3,8:F1} ms  cpu {Median(cpu[p]) * 1e3,8:F1} ms{paired}"));
+                    $"job: {programs[p].Name,-28} median {Median(wall[p]) * 1e3,8:F1} ms  best {wall[p].Min() * 1e3,8:F1} ms  cpu {Median(cpu[p]) * 1e3,8:F1} ms  page faults {Median(faults[p]),6:F0}{paired}"));
             }
             Phases(scenario, Path.Combine(work, "phases"), repeat);
         }
@@ -88,12 +90,13 @@ public static class JobFigure
         return sorted[sorted.Length / 2];
     }
 
-    // Wall time of one process, and its CPU time (user + system) from the kernel's account of waited-for children.
-    private static (double Wall, double Cpu) TimeProcess(string file, string[] args)
+    // Wall time of one process, its CPU time (user + system) and its minor page faults (each first touch of a page of
+    // memory, a few µs of kernel time that no load on the machine changes), from the kernel's account of waited-for children.
+    private static (double Wall, double Cpu, double Faults) TimeProcess(string file, string[] args)
     {
         var start = new ProcessStartInfo(file) { RedirectStandardOutput = true, RedirectStandardError = true };
         foreach (var a in args) start.ArgumentList.Add(a);
-        double cpu0 = ChildrenCpu();
+        var (cpu0, faults0) = Children();
         var watch = Stopwatch.StartNew();
         using var process = Process.Start(start)!;
         var output = process.StandardOutput.ReadToEndAsync();
@@ -102,7 +105,8 @@ public static class JobFigure
         double wall = watch.Elapsed.TotalSeconds;
         if (process.ExitCode != 0)
             throw new InvalidOperationException($"{file} {string.Join(' ', args)} exited with {process.ExitCode}: {error.Result}{output.Result}");
-        return (wall, ChildrenCpu() - cpu0);
+        var (cpu1, faults1) = Children();
+        return (wall, cpu1 - cpu0, faults1 - faults0);
     }
 
     [StructLayout(LayoutKind.Sequential)]
@@ -115,11 +119,11 @@ public static class JobFigure
     [DllImport("libc", SetLastError = true)]
     private static extern int getrusage(int who, ref RUsage usage);
 
-    private static double ChildrenCpu()
+    private static (double Cpu, double Faults) Children()
     {
         var usage = new RUsage { Rest = new long[14] };
-        if (!OperatingSystem.IsLinux() || getrusage(-1, ref usage) != 0) return double.NaN;   // RUSAGE_CHILDREN
-        return usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6;
+        if (!OperatingSystem.IsLinux() || getrusage(-1, ref usage) != 0) return (double.NaN, double.NaN);   // RUSAGE_CHILDREN
+        return (usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6, usage.Rest[4]);   // ru_minflt
     }
 
     /// <summary>
