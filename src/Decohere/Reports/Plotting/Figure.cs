@@ -100,17 +100,39 @@ public sealed record FigureOutput(Multiplot Plot, string Stem, int Width, int He
     public string WritePng()
     {
         string png = Stem + ".png";
-        AtomicFile.Write(png, tmp =>
+        // The pixels live in a pooled array, so figures drawn one after another reuse memory already touched instead of
+        // faulting in a fresh 3–6 MB surface each (about a thousand page faults a figure).
+        int rowBytes = 4 * Width;
+        var buffer = System.Buffers.ArrayPool<byte>.Shared.Rent(rowBytes * Height);
+        try
         {
-            using var surface = SkiaSharp.SKSurface.Create(new SkiaSharp.SKImageInfo(Width, Height, SkiaSharp.SKColorType.Rgba8888, SkiaSharp.SKAlphaType.Premul));
-            Plot.Render(surface);
-            using var image = surface.Snapshot();
-            using var pixels = image.PeekPixels() ?? throw new InvalidOperationException("the rendered figure has no pixels to encode");
-            using var stream = File.Create(tmp);
-            if (Png.TryWrite(pixels.GetPixelSpan(), Width, Height, pixels.RowBytes, stream)) return;
-            using var data = pixels.Encode(PngOptions) ?? throw new InvalidOperationException("the figure could not be encoded as PNG");
-            data.SaveTo(stream);
-        });
+            AtomicFile.Write(png, tmp =>
+            {
+                var info = new SkiaSharp.SKImageInfo(Width, Height, SkiaSharp.SKColorType.Rgba8888, SkiaSharp.SKAlphaType.Premul);
+                unsafe
+                {
+                    fixed (byte* pixels = buffer)
+                    {
+                        using (var surface = SkiaSharp.SKSurface.Create(info, (IntPtr)pixels, rowBytes)
+                            ?? throw new InvalidOperationException("no surface to draw the figure on"))
+                        {
+                            surface.Canvas.Clear(SkiaSharp.SKColors.Transparent);
+                            Plot.Render(surface);
+                            surface.Canvas.Flush();
+                        }
+                        using var stream = File.Create(tmp);
+                        if (Png.TryWrite(buffer.AsSpan(0, rowBytes * Height), Width, Height, rowBytes, stream)) return;
+                        using var pixmap = new SkiaSharp.SKPixmap(info, (IntPtr)pixels, rowBytes);
+                        using var data = pixmap.Encode(PngOptions) ?? throw new InvalidOperationException("the figure could not be encoded as PNG");
+                        data.SaveTo(stream);
+                    }
+                }
+            });
+        }
+        finally
+        {
+            System.Buffers.ArrayPool<byte>.Shared.Return(buffer);
+        }
         return png;
     }
 
