@@ -153,9 +153,14 @@ public sealed record FigureOutput(Multiplot Plot, string Stem, int Width, int He
         {
             AtomicFile.Write(svg, tmp =>
             {
-                using (var stream = File.Create(tmp))
-                using (var canvas = SkiaSharp.SKSvgCanvas.Create(new SkiaSharp.SKRect(0, 0, Width, Height), stream))
+                // Skia's SVG writer puts the document down in thousands of small pieces: kept in native memory and written
+                // once, instead of each piece calling back into a managed stream.
+                using var memory = new SkiaSharp.SKDynamicMemoryWStream();
+                using (var canvas = SkiaSharp.SKSvgCanvas.Create(new SkiaSharp.SKRect(0, 0, Width, Height), memory))
                     Plot.Render(canvas, new PixelRect(0, Width, Height, 0));
+                using var data = memory.DetachAsData();
+                using var stream = File.Create(tmp);
+                data.SaveTo(stream);
             });
         }
         finally
