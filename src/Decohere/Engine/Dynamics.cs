@@ -376,7 +376,8 @@ public sealed class Dynamics
     private readonly struct DecimalStep
     {
         // Integers below 2⁵³ and 10ˢ for s ≤ 22 are exact doubles, so one division gives the double nearest k·m·10⁻ˢ,
-        // correctly rounded (IEEE 754 division), where the decimal product and its conversion cost ~20 ns. 0 disables it.
+        // correctly rounded (IEEE 754 division), where the decimal product and its conversion cost ~20 ns. A mantissa of 0
+        // (a step with more digits, or beyond double's exact powers of ten) leaves every k to the decimal product.
         private const long Exact = 1L << 53;
         private static readonly double[] Powers = [.. Enumerable.Range(0, 23).Select(e => Math.Pow(10, e))];
         private readonly double _step;
