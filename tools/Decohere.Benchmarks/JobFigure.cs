@@ -17,8 +17,8 @@ namespace Decohere.Benchmarks;
 /// (200,006 rows, 5 × 2000 shots, estimates, summary, PNG and SVG plots), each call a new process, start-up included.
 /// The native build (<c>dotnet publish -c Release</c> of src/Decohere.Cli), the JIT build and
 /// tools/reference/run_job.py run in turn in every round, so the three see the same load on a shared machine; medians
-/// of wall and CPU time and of minor page faults, and the median of the per-round ratios. Then the time of each phase inside one process (JIT,
-/// warmed up), which is where the time of the job goes.
+/// of wall and CPU time and of minor page faults, and the median of the per-round ratios. Then the time of each phase
+/// inside one process (JIT, warmed up), which is where the time of the job goes.
 /// </summary>
 public static class JobFigure
 {
@@ -96,7 +96,7 @@ public static class JobFigure
     {
         var start = new ProcessStartInfo(file) { RedirectStandardOutput = true, RedirectStandardError = true };
         foreach (var a in args) start.ArgumentList.Add(a);
-        var (cpu0, faults0) = Children();
+        var (cpu0, faults0) = Usage(Children);
         var watch = Stopwatch.StartNew();
         using var process = Process.Start(start)!;
         var output = process.StandardOutput.ReadToEndAsync();
@@ -105,7 +105,7 @@ public static class JobFigure
         double wall = watch.Elapsed.TotalSeconds;
         if (process.ExitCode != 0)
             throw new InvalidOperationException($"{file} {string.Join(' ', args)} exited with {process.ExitCode}: {error.Result}{output.Result}");
-        var (cpu1, faults1) = Children();
+        var (cpu1, faults1) = Usage(Children);
         return (wall, cpu1 - cpu0, faults1 - faults0);
     }
 
@@ -119,19 +119,14 @@ public static class JobFigure
     [DllImport("libc", SetLastError = true)]
     private static extern int getrusage(int who, ref RUsage usage);
 
-    // CPU time of this process, all threads (RUSAGE_SELF, to the microsecond).
-    private static double OwnCpu()
-    {
-        var usage = new RUsage { Rest = new long[14] };
-        if (!OperatingSystem.IsLinux() || getrusage(0, ref usage) != 0) return double.NaN;
-        return usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6;
-    }
+    private const int Self = 0, Children = -1;   // RUSAGE_SELF (every thread of this process), RUSAGE_CHILDREN
 
-    private static (double Cpu, double Faults) Children()
+    // CPU time (user + system, to the microsecond) and minor page faults (ru_minflt).
+    private static (double Cpu, double Faults) Usage(int who)
     {
         var usage = new RUsage { Rest = new long[14] };
-        if (!OperatingSystem.IsLinux() || getrusage(-1, ref usage) != 0) return (double.NaN, double.NaN);   // RUSAGE_CHILDREN
-        return (usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6, usage.Rest[4]);   // ru_minflt
+        if (!OperatingSystem.IsLinux() || getrusage(who, ref usage) != 0) return (double.NaN, double.NaN);
+        return (usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6, usage.Rest[4]);
     }
 
     /// <summary>
@@ -145,11 +140,11 @@ public static class JobFigure
         {
             var phases = new List<(string, double, double)>();
             long tick = Stopwatch.GetTimestamp();
-            double cpu = OwnCpu();
+            double cpu = Usage(Self).Cpu;
             void Phase(string name)
             {
                 long now = Stopwatch.GetTimestamp();
-                double cpuNow = OwnCpu();
+                double cpuNow = Usage(Self).Cpu;
                 phases.Add((name, Stopwatch.GetElapsedTime(tick, now).TotalSeconds, cpuNow - cpu));
                 (tick, cpu) = (now, cpuNow);
             }
