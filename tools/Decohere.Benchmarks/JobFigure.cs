@@ -1,6 +1,5 @@
 using System.Diagnostics;
 using System.Globalization;
-using System.Runtime.InteropServices;
 using Decohere.Analyses.Check;
 using Decohere.Analyses.Runs;
 using Decohere.Core;
@@ -17,8 +16,8 @@ namespace Decohere.Benchmarks;
 /// (200,006 rows, 5 × 2000 shots, estimates, summary, PNG and SVG plots), each call a new process, start-up included.
 /// The native build (<c>dotnet publish -c Release</c> of src/Decohere.Cli), the JIT build and
 /// tools/reference/run_job.py run in turn in every round, so the three see the same load on a shared machine; medians
-/// of wall and CPU time, and the median of the per-round ratios. Then the time of each phase inside one process (JIT,
-/// warmed up), which is where the time of the job goes.
+/// of wall and CPU time and of minor page faults, and the median of the per-round ratios. Then the time of each phase
+/// inside one process (JIT, warmed up), which is where the time of the job goes.
 /// </summary>
 public static class JobFigure
 {
@@ -49,21 +48,23 @@ public static class JobFigure
 
             var wall = programs.Select(_ => new List<double>()).ToArray();
             var cpu = programs.Select(_ => new List<double>()).ToArray();
+            var faults = programs.Select(_ => new List<double>()).ToArray();
             for (int round = -1; round < repeat; round++)
                 for (int p = 0; p < programs.Count; p++)
                 {
-                    var (w, c) = TimeProcess(programs[p].File, programs[p].Args);
+                    var (w, c, f) = Usage.Process(programs[p].File, programs[p].Args);
                     if (round < 0) continue;   // the first round warms the disk cache
                     wall[p].Add(w);
                     cpu[p].Add(c);
+                    faults[p].Add(f);
                 }
             int reference = programs.Count - 1;
             for (int p = 0; p < programs.Count; p++)
             {
-                var ratio = Median(wall[reference].Zip(wall[p], (r, o) => r / o));
+                var ratio = Usage.Median(wall[reference].Zip(wall[p], (r, o) => r / o));
                 string paired = p == reference ? "" : string.Create(CultureInfo.InvariantCulture, $"  numpy / this, paired: {ratio:F2}x");
                 Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                    $"job: {programs[p].Name,-28} median {Median(wall[p]) * 1e3,8:F1} ms  best {wall[p].Min() * 1e3,8:F1} ms  cpu {Median(cpu[p]) * 1e3,8:F1} ms{paired}"));
+                    $"job: {programs[p].Name,-28} median {Usage.Median(wall[p]) * 1e3,8:F1} ms  best {wall[p].Min() * 1e3,8:F1} ms  cpu {Usage.Median(cpu[p]) * 1e3,8:F1} ms  page faults {Usage.Median(faults[p]),6:F0}{paired}"));
             }
             Phases(scenario, Path.Combine(work, "phases"), repeat);
         }
@@ -82,62 +83,24 @@ public static class JobFigure
         return path;
     }
 
-    private static double Median(IEnumerable<double> values)
-    {
-        var sorted = values.Order().ToArray();
-        return sorted[sorted.Length / 2];
-    }
-
-    // Wall time of one process, and its CPU time (user + system) from the kernel's account of waited-for children.
-    private static (double Wall, double Cpu) TimeProcess(string file, string[] args)
-    {
-        var start = new ProcessStartInfo(file) { RedirectStandardOutput = true, RedirectStandardError = true };
-        foreach (var a in args) start.ArgumentList.Add(a);
-        double cpu0 = ChildrenCpu();
-        var watch = Stopwatch.StartNew();
-        using var process = Process.Start(start)!;
-        var output = process.StandardOutput.ReadToEndAsync();
-        var error = process.StandardError.ReadToEndAsync();
-        process.WaitForExit();
-        double wall = watch.Elapsed.TotalSeconds;
-        if (process.ExitCode != 0)
-            throw new InvalidOperationException($"{file} {string.Join(' ', args)} exited with {process.ExitCode}: {error.Result}{output.Result}");
-        return (wall, ChildrenCpu() - cpu0);
-    }
-
-    [StructLayout(LayoutKind.Sequential)]
-    private struct RUsage
-    {
-        public long UserSeconds, UserMicroseconds, SystemSeconds, SystemMicroseconds;
-        [MarshalAs(UnmanagedType.ByValArray, SizeConst = 14)] public long[] Rest;
-    }
-
-    [DllImport("libc", SetLastError = true)]
-    private static extern int getrusage(int who, ref RUsage usage);
-
-    private static double ChildrenCpu()
-    {
-        var usage = new RUsage { Rest = new long[14] };
-        if (!OperatingSystem.IsLinux() || getrusage(-1, ref usage) != 0) return double.NaN;   // RUSAGE_CHILDREN
-        return usage.UserSeconds + usage.SystemSeconds + (usage.UserMicroseconds + usage.SystemMicroseconds) * 1e-6;
-    }
-
     /// <summary>
     /// The run's phases one after the other in this process (the steps RunAnalysis and RunReport take, timed apart), then
     /// RunAnalysis and RunReport themselves (the report writes its files side by side); after one warm-up, medians.
     /// </summary>
     private static void Phases(string scenarioPath, string dir, int repeat)
     {
-        var runs = new List<List<(string Name, double Seconds)>>();
+        var runs = new List<List<(string Name, double Seconds, double Cpu)>>();
         for (int k = 0; k <= repeat; k++)
         {
-            var phases = new List<(string, double)>();
+            var phases = new List<(string, double, double)>();
             long tick = Stopwatch.GetTimestamp();
+            double cpu = Usage.OwnCpu();
             void Phase(string name)
             {
                 long now = Stopwatch.GetTimestamp();
-                phases.Add((name, Stopwatch.GetElapsedTime(tick, now).TotalSeconds));
-                tick = now;
+                double cpuNow = Usage.OwnCpu();
+                phases.Add((name, Stopwatch.GetElapsedTime(tick, now).TotalSeconds, cpuNow - cpu));
+                (tick, cpu) = (now, cpuNow);
             }
             var scenario = ScenarioLoader.Load(scenarioPath);
             Phase("load scenario");
@@ -186,8 +149,10 @@ public static class JobFigure
             Phase("all: RunReport (tables and figures side by side)");
             if (k > 0) runs.Add(phases);
         }
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"job phases in one process (JIT, warm), median of {repeat}: one at a time, then the run's own two steps"));
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+            $"job phases in one process (JIT, warm), medians of {repeat} (wall, and CPU of all threads): one at a time, then the run's own two steps"));
         for (int p = 0; p < runs[0].Count; p++)
-            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"  {runs[0][p].Name,-44} {Median(runs.Select(r => r[p].Seconds)) * 1e3,8:F1} ms"));
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"  {runs[0][p].Name,-50} {Usage.Median(runs.Select(r => r[p].Seconds)) * 1e3,8:F1} ms  cpu {Usage.Median(runs.Select(r => r[p].Cpu)) * 1e3,8:F1} ms"));
     }
 }

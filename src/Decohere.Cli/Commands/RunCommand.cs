@@ -56,12 +56,14 @@ public static class RunCommand
             }
             var owned = OutputDirectory.Claim(dir, OutputSet.Run);
             var files = new RunFiles(dir);
+            var prepared = RunReport.PrepareAsync();
             var result = !isQuiet && console.Interactive
                 ? await console.Error.Progress()
                     .AutoClear(true)
                     .Columns(new TaskDescriptionColumn(), new ProgressBarColumn(), new PercentageColumn(), new RemainingTimeColumn())
                     .StartAsync(context => RunAnalysis.SolveAsync(s, settings, files, new ProgressBars(context), OnReadout, cancel))
                 : await RunAnalysis.SolveAsync(s, settings, files, null, OnReadout, cancel);
+            await prepared;
             var paths = await new RunReport(files).WriteAsync(result, dir, cancel);
             if (!isQuiet)
             {

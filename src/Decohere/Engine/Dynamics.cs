@@ -259,7 +259,11 @@ public sealed class Dynamics
     {
         ArgumentNullException.ThrowIfNull(times);
         ArgumentNullException.ThrowIfNull(visit);
-        var order = Enumerable.Range(0, times.Count).OrderBy(k => times[k]).ToArray();
+        // An output grid arrives in order: walked as given, without a sort or a call through the list per time.
+        ReadOnlySpan<double> at = times switch { ImmutableArray<double> a => a.AsSpan(), double[] d => d, _ => [.. times] };
+        int[]? order = null;
+        for (int k = 1; k < at.Length && order is null; k++)
+            if (!(at[k] >= at[k - 1])) order = [.. Enumerable.Range(0, at.Length).OrderBy(i => times[i])];
         int n = 2 * ModeNames.Length;
         var v = new double[n * n];
         var mean = new double[n];
@@ -268,9 +272,10 @@ public sealed class Dynamics
         int stage = -1;
         // The state's time as an unevaluated sum hi + lo, so that rounding does not accumulate over many shared steps.
         double hi = 0, lo = 0;
-        foreach (int k in order)
+        for (int o = 0; o < at.Length; o++)
         {
-            double t = times[k];
+            int k = order is null ? o : order[o];
+            double t = at[k];
             int i = StageAt(t, Math.Max(stage, 0));
             if (i < Scenario.Stages.Length && !IsAfter(StageEnd(i), t))
             {
@@ -336,37 +341,71 @@ public sealed class Dynamics
     {
         double step = stepS ?? Scenario.OutputStepS;
         if (!(step > 0) || !double.IsFinite(step)) throw new ArgumentOutOfRangeException(nameof(stepS), step, "the output step must be finite and > 0 (s)");
-        var times = ImmutableArray.CreateBuilder<double>();
-        var stages = ImmutableArray.CreateBuilder<int>();
+        double expected = 1 + Scenario.Stages.Sum(s => Math.Ceiling(s.DurationS / step) + 1);
+        int capacity = expected < Array.MaxLength ? (int)expected : 0;
+        var times = ImmutableArray.CreateBuilder<double>(capacity);
+        var stages = ImmutableArray.CreateBuilder<int>(capacity);
+        var scale = new DecimalStep(step);
         times.Add(0);
         stages.Add(0);
         for (int i = 0; i < Scenario.Stages.Length; i++)
         {
             double t0 = StageStarts[i], t1 = StageEnd(i);
             long k = (long)Math.Floor(t0 / step);
-            while (!IsAfter(GridTime(k, step), t0)) k++;
-            for (; IsAfter(t1, GridTime(k, step)); k++)
+            while (!IsAfter(scale.Times(k), t0)) k++;
+            for (double t; IsAfter(t1, t = scale.Times(k)); k++)
             {
-                times.Add(GridTime(k, step));
+                times.Add(t);
                 stages.Add(i);
             }
             times.Add(t1);
             stages.Add(i);
         }
-        return new TimeGrid(times.ToImmutable(), stages.ToImmutable(), step);
+        return new TimeGrid(times.DrainToImmutable(), stages.DrainToImmutable(), step);
     }
 
     /// <summary>
     /// k·step as the double nearest the exact decimal product of k and the step as written (the step's shortest
     /// decimal, up to 15 digits): 3 × 1e-5 is 3e-5, where the binary product is 3.0000000000000004e-5, so tables print
-    /// the times a user would write. Decimal arithmetic is exact here (k &lt; 2⁶³, 15 digits) and costs ~20 ns a point.
+    /// the times a user would write. Decimal arithmetic is exact here (k &lt; 2⁶³, 15 digits); while k·m &lt; 2⁵³ (m the
+    /// step's digits) a single division gives the same double.
     /// </summary>
-    public static double GridTime(long k, double step)
+    public static double GridTime(long k, double step) => new DecimalStep(step).Times(k);
+
+    /// <summary>A step as the decimal it is written as, m·10⁻ˢ, for <see cref="GridTime"/> at many k.</summary>
+    private readonly struct DecimalStep
     {
-        double product = k * step;
-        // Beyond decimal's range or resolution (|t| > 7.9e28 s or step < 1e-28 s) the binary product is all there is.
-        if (!(Math.Abs(product) < 1e25) || step < 1e-25) return product;
-        return (double)(k * (decimal)step);
+        // Integers below 2⁵³ and 10ˢ for s ≤ 22 are exact doubles, so one division gives the double nearest k·m·10⁻ˢ,
+        // correctly rounded (IEEE 754 division), where the decimal product and its conversion cost ~20 ns. A mantissa of 0
+        // (a step with more digits, or beyond double's exact powers of ten) leaves every k to the decimal product.
+        private const long Exact = 1L << 53;
+        private static readonly double[] Powers = [.. Enumerable.Range(0, 23).Select(e => Math.Pow(10, e))];
+        private readonly double _step;
+        private readonly decimal _decimal;
+        private readonly long _mantissa;
+        private readonly int _scale;
+
+        public DecimalStep(double step)
+        {
+            _step = step;
+            // Beyond decimal's range or resolution (|t| > 7.9e28 s or step < 1e-28 s) the binary product is all there is.
+            if (!(step >= 1e-25 && step < 1e25)) return;
+            _decimal = (decimal)step;
+            Span<int> bits = stackalloc int[4];
+            decimal.GetBits(_decimal, bits);
+            int scale = (bits[3] >> 16) & 0xFF;
+            long mantissa = (uint)bits[0] | (long)(uint)bits[1] << 32;
+            if (bits[2] == 0 && mantissa is > 0 and < Exact && scale < Powers.Length) (_mantissa, _scale) = (mantissa, scale);
+        }
+
+        /// <summary>k·step, as <see cref="GridTime"/> defines it.</summary>
+        public double Times(long k)
+        {
+            double product = k * _step;
+            if (!(Math.Abs(product) < 1e25) || !(_step >= 1e-25)) return product;
+            if (_mantissa > 0 && k >= 0 && k < Exact / _mantissa) return k * _mantissa / Powers[_scale];
+            return (double)(k * _decimal);
+        }
     }
 
     /// <summary>Whether stage i has a steady state.</summary>

@@ -7,8 +7,9 @@ namespace Decohere.IO;
 /// <summary>
 /// A column of a table to write: name (with its unit, e.g. time_s) and CLR element type. <see cref="Dictionary"/> stores
 /// the column as a dictionary of its distinct values (on by default for text; for numbers that repeat, such as a delay
-/// constant over a row group); <see cref="Delta"/> stores an int64 column as differences (a counter costs a few bits per row).
-/// A text column with <see cref="Categories"/> may be given as int[] indices into them (no per-row text encoding).
+/// constant over a row group); <see cref="Delta"/> stores an int64 column as differences (a counter costs a few bits per row);
+/// <see cref="Split"/> stores float64 values byte plane by byte plane. A text column with <see cref="Categories"/> may be
+/// given as int[] indices into them (no per-row text encoding).
 /// </summary>
 public sealed record ColumnSpec(string Name, Type Type)
 {
@@ -20,6 +21,15 @@ public sealed record ColumnSpec(string Name, Type Type)
 
     /// <summary>DELTA_BINARY_PACKED encoding (int64 columns only).</summary>
     public bool Delta { get; init; }
+
+    /// <summary>
+    /// BYTE_STREAM_SPLIT encoding (float64 columns only): the k-th bytes of all values together, so the slowly varying sign,
+    /// exponent and leading mantissa bytes of a smooth series sit side by side for the compressor.
+    /// </summary>
+    public bool Split { get; init; }
+
+    /// <summary>Minimum and maximum per row group and page in the footer (on by default; readers skip data with them).</summary>
+    public bool Statistics { get; init; } = true;
 
     /// <summary>A float64 column.</summary>
     public static ColumnSpec Double(string name) => new(name, typeof(double));
@@ -119,6 +129,8 @@ public sealed class ParquetTable : IAsyncDisposable
                 throw new ArgumentException($"column {c.Name}: {c.Type.Name} is not supported (double, double?, long, int, bool, string)", nameof(columns));
             if (c.Delta && c.Type != typeof(long))
                 throw new ArgumentException($"column {c.Name}: delta encoding is for int64 columns", nameof(columns));
+            if (c.Split && c.Type != typeof(double))
+                throw new ArgumentException($"column {c.Name}: byte stream split is for float64 columns", nameof(columns));
             if (c.Categories is not null && c.Type != typeof(string))
                 throw new ArgumentException($"column {c.Name}: categories are for text columns", nameof(columns));
         }
@@ -177,6 +189,8 @@ public sealed class ParquetTable : IAsyncDisposable
         {
             if (c.Dictionary) builder.EnableDictionary(c.Name);
             if (c.Delta) builder.Encoding(c.Name, Encoding.DeltaBinaryPacked);
+            if (c.Split) builder.Encoding(c.Name, Encoding.ByteStreamSplit);
+            if (!c.Statistics) builder.DisableStatistics(c.Name);
         }
         return builder.Build();
     }
@@ -210,25 +224,63 @@ public sealed class ParquetTable : IAsyncDisposable
         for (int c = 0; c < _columns.Length; c++)
         {
             using var column = group.NextColumn();
-            var spec = _columns[c];
-            var data = columns[c];
-            int from = data.Length == 1 ? 0 : start;
-            switch (data)
-            {
-                case double[] d when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(d, from, rows, ref _values)); break;
-                case double?[] nd when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(nd, from, rows, ref _nullables)); break;
-                case double[] d when spec.Type == typeof(double): ((ColumnWriter<double>)column).WriteBatch(Span(d, from, rows, ref _values)); break;
-                case long[] l when spec.Type == typeof(long): ((ColumnWriter<long>)column).WriteBatch(Span(l, from, rows, ref _longs)); break;
-                case int[] i when spec.Type == typeof(int): ((ColumnWriter<int>)column).WriteBatch(Span(i, from, rows, ref _ints)); break;
-                case bool[] b when spec.Type == typeof(bool): ((ColumnWriter<bool>)column).WriteBatch(Span(b, from, rows, ref _bools)); break;
-                case string[] s when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, s.Length == 1, k => s[from + k].AsSpan()); break;
-                case ReadOnlyMemory<char>[] m when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, m.Length == 1, k => m[from + k].Span); break;
-                case int[] k when _categories[c] is { } categories: WriteCategories((ColumnWriter<ByteArray>)column, categories, Span(k, from, rows, ref _ints), spec.Name); break;
-                default:
-                    throw new ArgumentException($"column {spec.Name} ({spec.Type.Name}): unsupported array type {data.GetType().Name}", nameof(columns));
-            }
+            WriteColumn(column, c, columns[c], columns[c].Length == 1 ? 0 : start, rows);
         }
         RowCount += rows;
+    }
+
+    /// <summary>
+    /// Writes one row group of <paramref name="rows"/> rows in chunks as long as <paramref name="buffers"/> (one array per
+    /// column, of the types <see cref="WriteRowGroup(int, IReadOnlyList{Array})"/> takes, or of one element for a constant):
+    /// <paramref name="fill"/>(start, count) puts rows [start, start + count) into the first count entries of every buffer.
+    /// The columns' pages wait in memory until the group is complete (a buffered row group), so a few thousand rows of
+    /// buffers, reused and kept in the cache, serve a group of any size. With buffers a multiple of 1024 rows long the file
+    /// has the bytes whole columns give (the native writer checks its page size every 1024 values).
+    /// </summary>
+    public void WriteRowGroup(int rows, IReadOnlyList<Array> buffers, Action<int, int> fill)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(rows);
+        if (buffers.Count != _columns.Length)
+            throw new ArgumentException($"expected {_columns.Length} columns, got {buffers.Count}", nameof(buffers));
+        int chunk = buffers.Where(b => b.Length != 1).Select(b => b.Length).DefaultIfEmpty(rows).Min();
+        if (chunk < 1 && rows > 0) throw new ArgumentException("a buffer has no room for a row", nameof(buffers));
+        using var group = _writer.AppendBufferedRowGroup();
+        var writers = new ColumnWriter[_columns.Length];
+        try
+        {
+            for (int c = 0; c < writers.Length; c++) writers[c] = group.Column(c);
+            for (int start = 0; start < rows; start += chunk)
+            {
+                int count = Math.Min(chunk, rows - start);
+                fill(start, count);
+                for (int c = 0; c < writers.Length; c++) WriteColumn(writers[c], c, buffers[c], 0, count);
+            }
+        }
+        finally
+        {
+            foreach (var w in writers) w?.Dispose();
+        }
+        RowCount += rows;
+    }
+
+    // Rows [from, from + rows) of one column's array (a one-element array is the same value on every row).
+    private void WriteColumn(ColumnWriter column, int c, Array data, int from, int rows)
+    {
+        var spec = _columns[c];
+        switch (data)
+        {
+            case double[] d when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(d, from, rows, ref _values)); break;
+            case double?[] nd when spec.Type == typeof(double?): WriteOptional((ColumnWriter<double>)column, Span(nd, from, rows, ref _nullables)); break;
+            case double[] d when spec.Type == typeof(double): ((ColumnWriter<double>)column).WriteBatch(Span(d, from, rows, ref _values)); break;
+            case long[] l when spec.Type == typeof(long): ((ColumnWriter<long>)column).WriteBatch(Span(l, from, rows, ref _longs)); break;
+            case int[] i when spec.Type == typeof(int): ((ColumnWriter<int>)column).WriteBatch(Span(i, from, rows, ref _ints)); break;
+            case bool[] b when spec.Type == typeof(bool): ((ColumnWriter<bool>)column).WriteBatch(Span(b, from, rows, ref _bools)); break;
+            case string[] s when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, s.Length == 1, k => s[from + k].AsSpan()); break;
+            case ReadOnlyMemory<char>[] m when spec.Type == typeof(string): WriteText((ColumnWriter<ByteArray>)column, rows, m.Length == 1, k => m[from + k].Span); break;
+            case int[] k when _categories[c] is { } categories: WriteCategories((ColumnWriter<ByteArray>)column, categories, Span(k, from, rows, ref _ints), spec.Name); break;
+            default:
+                throw new ArgumentException($"column {spec.Name} ({spec.Type.Name}): unsupported array type {data.GetType().Name}", nameof(data));
+        }
     }
 
     // Rows [from, from + rows) of the array, or its single value repeated into a reused buffer.

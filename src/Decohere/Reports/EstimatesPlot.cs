@@ -48,16 +48,17 @@ public static class EstimatesPlot
             Add(previous = d.DelayS, d.Model);
         }
         for (; row < end; row++) Add(times[row] - start, evolution.Moments[row, mode]);
-        (t, min, max) = (t[..count], min[..count], max[..count]);
+        // The series are the arrays' first `count` entries, used in place (copies of 10⁵ rows cost more than the plot's arithmetic).
+        ArraySegment<double> ts = new(t, 0, count), mins = new(min, 0, count), maxs = new(max, 0, count);
         // An interval reaching zero or below (noise subtraction overshooting) is drawn down to the axis floor instead of
         // stretching the axis over decades.
-        double floor = Math.Min(Math.Min(min.Min(), Log(0.5)),
+        double floor = Math.Min(Math.Min(mins.Min(), Log(0.5)),
             estimates.Select(e => e.VarMin.Value).Where(v => v > 0).Select(Log).DefaultIfEmpty(double.PositiveInfinity).Min()) - 0.3;
-        double hi = max.Max();
-        void Series(double[] model, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
+        double hi = maxs.Max();
+        void Series(ArraySegment<double> model, Func<ReadoutEstimate, Estimate> pick, string name, Color color)
         {
             // Tens of thousands of rows drawn at screen resolution: the same envelope, a fraction of the drawing.
-            var (lx, ly) = Decimation.MinMax(t, model, VariancePlot.Columns);
+            var (lx, ly) = Decimation.MinMax(ts, model, VariancePlot.Columns);
             var line = plot.Add.ScatterLine(lx, ly);
             line.Color = color;
             line.LineWidth = Figure.LineWidth;
@@ -80,8 +81,8 @@ public static class EstimatesPlot
             marks.MarkerSize = 10;
             marks.LegendText = $"{name}, from shots (95% interval)";
         }
-        Series(min, e => e.VarMin, "var_min", Figure.Colour(0));
-        Series(max, e => e.VarMax, "var_max", Figure.Colour(1));
+        Series(mins, e => e.VarMin, "var_min", Figure.Colour(0));
+        Series(maxs, e => e.VarMax, "var_max", Figure.Colour(1));
 
         var zero = plot.Add.HorizontalLine(Log(0.5));
         zero.Color = Figure.Ink;

@@ -14,6 +14,25 @@ namespace Decohere.Reports;
 /// <param name="files">The files the run streamed into; with them, iq.png/.svg shows the recorded shots.</param>
 public sealed class RunReport(RunFiles? files = null) : IReport<RunResult>
 {
+    /// <summary>
+    /// Loads, on a worker thread, what writing the report first needs: the native Parquet writer and the drawing library
+    /// with the figures' font (together some 20 ms of loading, relocating and scanning fonts), so that a caller can start
+    /// it before the run and let it overlap the engine's walk. Failures are left to the report itself to meet and explain.
+    /// </summary>
+    public static Task PrepareAsync() => Task.Run(() =>
+    {
+        try
+        {
+            using (new ParquetSharp.WriterPropertiesBuilder()) { }
+            using var surface = SkiaSharp.SKSurface.Create(new SkiaSharp.SKImageInfo(160, 90));
+            Figure.New().Render(surface.Canvas, 160, 90);
+        }
+        catch (Exception)
+        {
+            // Nothing is written here: the same step fails again where the report can say what went wrong.
+        }
+    });
+
     /// <inheritdoc/>
     public async Task<IReadOnlyList<string>> WriteAsync(RunResult result, string directory, CancellationToken cancel = default)
     {

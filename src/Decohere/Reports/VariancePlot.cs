@@ -24,14 +24,15 @@ public static class VariancePlot
         var scenario = evolution.Dynamics.Scenario;
         var plot = Figure.New();
         var unit = DisplayUnits.For(Dimension.Time, [scenario.TotalDurationS]);
-        double[] t = [.. evolution.Times.Select(unit.From)];
+        var t = new double[evolution.Times.Length];
+        for (int k = 0; k < t.Length; k++) t[k] = unit.From(evolution.Times[k]);
         double lo = Math.Log10(0.5), hi = lo;
         int colour = 0;
         var mechanical = evolution.ModeNames.Select((n, j) => (n, j)).Where(p => scenario.ModeNamed(p.n).Kind == ModeKind.Mechanical).ToArray();
+        // Reused from mode to mode: the decimated series are copies.
+        var (min, max) = (new double[t.Length], new double[t.Length]);
         foreach (var (name, j) in mechanical)
         {
-            var min = new double[t.Length];
-            var max = new double[t.Length];
             for (int k = 0; k < t.Length; k++)
             {
                 min[k] = Math.Log10(Math.Max(evolution.Moments[k, j].VarMin, 1e-12));

@@ -149,6 +149,32 @@ public class PropagatorTests
         Assert.Equal([0, 0, 0, 0, 1, 1, 1], grid.Stages.Take(7));
     }
 
+    [Theory]
+    [InlineData(1.1e-7)]
+    [InlineData(1e-5)]
+    [InlineData(3.7e-9)]
+    [InlineData(0.123456789012345)]
+    [InlineData(2.5)]
+    public void GridTimesAreTheDoublesNearestTheDecimalProducts(double step)
+    {
+        // The reference is .NET's text-to-double conversion, which rounds correctly (IEEE 754-2008, sec. 5.12): the
+        // decimal k·digits·10⁻ˢ as text, parsed. k runs over small values and across the point where k·digits passes 2⁵³;
+        // beyond it the conversion of a decimal rounds twice (its digits to a double, then the division), so within an ulp.
+        var digits = decimal.GetBits((decimal)step);
+        long mantissa = (uint)digits[0] | (long)(uint)digits[1] << 32;
+        int scale = (digits[3] >> 16) & 0xFF;
+        long switchover = (1L << 53) / mantissa;
+        var ks = Enumerable.Range(0, 2000).Select(k => (long)k)
+            .Concat(Enumerable.Range(-50, 100).Select(d => switchover + d).Where(k => k > 0 && k * step < 1e25));
+        foreach (long k in ks)
+        {
+            var exact = (System.Numerics.BigInteger)k * mantissa;
+            double expected = double.Parse($"{exact}E-{scale}", System.Globalization.CultureInfo.InvariantCulture);
+            double t = Dynamics.GridTime(k, step), ulp = exact < 1L << 53 ? 0 : Math.BitIncrement(expected) - expected;
+            Assert.True(Math.Abs(t - expected) <= ulp, $"k = {k}: {t:R}, expected {expected:R}");
+        }
+    }
+
     [Fact]
     public void SamplePathStepsFollowTheGridAndNeverSpanABoundary()
     {

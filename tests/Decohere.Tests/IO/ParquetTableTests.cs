@@ -88,6 +88,43 @@ public class ParquetTableTests
     }
 
     [Fact]
+    public async Task ARowGroupWrittenInChunksIsTheFileOfItsWholeColumns()
+    {
+        // 3000 rows through buffers of 1024 (two full chunks and a short one) against the same rows as whole columns; the
+        // whole-column path is read by DuckDB above, so equal bytes carry that check over.
+        string dir = TestPaths.NewTempDirectory();
+        const int n = 3000, chunk = 1024;
+        var spec = Columns.Where(c => c.Name != "label").ToArray();
+        long[] Shots(int from, int count) => [.. Enumerable.Range(from, count).Select(i => (long)i)];
+        double[] X(int from, int count) => [.. Enumerable.Range(from, count).Select(i => Math.Sin(0.01 * i))];
+        double?[] Z(int from, int count) => [.. Enumerable.Range(from, count).Select(i => i % 3 == 0 ? (double?)null : i * 0.5)];
+        double[] W(int from, int count) => [.. Enumerable.Range(from, count).Select(i => i % 5 == 0 ? double.NaN : -i)];
+        int[] N(int from, int count) => [.. Enumerable.Range(from, count)];
+        bool[] Ok(int from, int count) => [.. Enumerable.Range(from, count).Select(i => i % 2 == 0)];
+        string whole = Path.Combine(dir, "whole.parquet"), chunked = Path.Combine(dir, "chunked.parquet");
+        await using (var table = await ParquetTable.CreateAsync(whole, spec, new Dictionary<string, string>()))
+        {
+            table.WriteRowGroup(n, [Shots(0, n), new[] { 0.001 }, new[] { "drum" }, X(0, n), Z(0, n), W(0, n), N(0, n), Ok(0, n)]);
+            await table.CommitAsync();
+        }
+        await using (var table = await ParquetTable.CreateAsync(chunked, spec, new Dictionary<string, string>()))
+        {
+            Array[] buffers = [new long[chunk], new[] { 0.001 }, new[] { "drum" }, new double[chunk], new double?[chunk], new double[chunk], new int[chunk], new bool[chunk]];
+            var filled = new List<(int, int)>();
+            table.WriteRowGroup(n, buffers, (start, count) =>
+            {
+                filled.Add((start, count));
+                Array[] rows = [Shots(start, count), null!, null!, X(start, count), Z(start, count), W(start, count), N(start, count), Ok(start, count)];
+                foreach (int c in new[] { 0, 3, 4, 5, 6, 7 }) Array.Copy(rows[c], buffers[c], count);
+            });
+            Assert.Equal([(0, 1024), (1024, 1024), (2048, 952)], filled);
+            Assert.Equal(n, table.RowCount);
+            await table.CommitAsync();
+        }
+        Assert.Equal(File.ReadAllBytes(whole), File.ReadAllBytes(chunked));
+    }
+
+    [Fact]
     public async Task WholeTablesAreSplitIntoRowGroups()
     {
         string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
@@ -102,6 +139,42 @@ public class ParquetTableTests
         Assert.Equal("k", sums[3]);
         var groups = DuckDb.Query($"SELECT DISTINCT row_group_id, row_group_num_rows FROM parquet_metadata({file}) ORDER BY row_group_id");
         Assert.Equal([1000L, 1000L, 500L], groups.Select(r => Convert.ToInt64(r[1])));
+    }
+
+    [Fact]
+    public async Task SplitColumnsReadBackExactlyAndStatisticsAreWhereAsked()
+    {
+        string path = Path.Combine(TestPaths.NewTempDirectory(), "t.parquet");
+        var random = new Random(3);
+        // Smooth values and random ones (every bit pattern of the mantissa), with a sign change and subnormal-free extremes.
+        var smooth = Enumerable.Range(0, 3000).Select(i => 0.5 + 1e-3 * Math.Sin(i * 1e-3)).ToArray();
+        var rough = Enumerable.Range(0, 3000).Select(_ => (random.NextDouble() - 0.5) * Math.Pow(10, random.Next(-300, 300))).ToArray();
+        ColumnSpec[] columns =
+        [
+            ColumnSpec.Double("t"), ColumnSpec.Double("smooth") with { Split = true, Statistics = false },
+            ColumnSpec.Double("rough") with { Split = true },
+        ];
+        var t = Enumerable.Range(0, 3000).Select(i => i * 1e-6).ToArray();
+        await ParquetTable.WriteAsync(path, columns, [t, smooth, rough], new Dictionary<string, string>(), rowGroup: 2000);
+        string file = DuckDb.Literal(path);
+        var rows = DuckDb.Query($"SELECT t, smooth, rough FROM read_parquet({file}) ORDER BY t");
+        Assert.Equal(3000, rows.Count);
+        for (int i = 0; i < rows.Count; i++)
+        {
+            Assert.Equal(smooth[i], (double)rows[i][1]!);
+            Assert.Equal(rough[i], (double)rows[i][2]!);
+        }
+        // DuckDB's parquet_metadata: the column chunks' encodings and statistics (null where the file has none).
+        var chunks = DuckDb.Query($"SELECT path_in_schema, encodings, stats_min IS NOT NULL FROM parquet_metadata({file}) WHERE row_group_id = 0")
+            .ToDictionary(r => (string)r[0]!, r => (Encodings: (string)r[1]!, Statistics: (bool)r[2]!));
+        Assert.Contains("BYTE_STREAM_SPLIT", chunks["smooth"].Encodings);
+        Assert.Contains("BYTE_STREAM_SPLIT", chunks["rough"].Encodings);
+        Assert.DoesNotContain("BYTE_STREAM_SPLIT", chunks["t"].Encodings);
+        Assert.True(chunks["t"].Statistics);
+        Assert.True(chunks["rough"].Statistics);
+        Assert.False(chunks["smooth"].Statistics);
+        await Assert.ThrowsAsync<ArgumentException>(() => ParquetTable.WriteAsync(path, [ColumnSpec.Long("k") with { Split = true }], [new long[] { 1 }],
+            new Dictionary<string, string>()));
     }
 
     [Fact]
