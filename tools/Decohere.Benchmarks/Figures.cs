@@ -226,16 +226,9 @@ public static class Figures
             ("sweep.py --once (batched, .npy)", Options.GetValueOrDefault("python") ?? "/usr/bin/python3",
                 [Path.Combine(Files.Root, "tools", "reference", "sweep.py"), "--once", Path.Combine(dir, "sweep.npy")]),
         ];
-        var wall = programs.Select(_ => new List<double>()).ToArray();
-        var cpu = programs.Select(_ => new List<double>()).ToArray();
-        for (int round = -1; round < repeat; round++)
-            for (int p = 0; p < programs.Length; p++)
-            {
-                var (w, c, _) = Usage.Process(programs[p].File, programs[p].Args);
-                if (round < 0) continue;   // the first round warms the disk cache
-                wall[p].Add(w);
-                cpu[p].Add(c);
-            }
+        var runs = Usage.Rounds([.. programs.Select(p => (p.File, p.Args))], repeat);
+        var wall = runs.Select(r => r.Wall).ToArray();
+        var cpu = runs.Select(r => r.Cpu).ToArray();
         Directory.Delete(dir, recursive: true);
         double ratio = Usage.Median(wall[1].Zip(wall[0], (python, ours) => python / ours));
         for (int p = 0; p < programs.Length; p++)

@@ -46,18 +46,10 @@ public static class JobFigure
                 programs.Add(("decohere run, baseline", baseline, ["run", scenario, "--out", Path.Combine(work, "baseline")]));
             programs.Add(("numpy/scipy run_job.py", python, [script, scenario, Path.Combine(work, "numpy")]));
 
-            var wall = programs.Select(_ => new List<double>()).ToArray();
-            var cpu = programs.Select(_ => new List<double>()).ToArray();
-            var faults = programs.Select(_ => new List<double>()).ToArray();
-            for (int round = -1; round < repeat; round++)
-                for (int p = 0; p < programs.Count; p++)
-                {
-                    var (w, c, f) = Usage.Process(programs[p].File, programs[p].Args);
-                    if (round < 0) continue;   // the first round warms the disk cache
-                    wall[p].Add(w);
-                    cpu[p].Add(c);
-                    faults[p].Add(f);
-                }
+            var runs = Usage.Rounds([.. programs.Select(p => (p.File, p.Args))], repeat);
+            var wall = runs.Select(r => r.Wall).ToArray();
+            var cpu = runs.Select(r => r.Cpu).ToArray();
+            var faults = runs.Select(r => r.Faults).ToArray();
             int reference = programs.Count - 1;
             for (int p = 0; p < programs.Count; p++)
             {

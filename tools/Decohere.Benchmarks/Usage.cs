@@ -39,6 +39,23 @@ internal static class Usage
         return (wall, cpu1 - cpu0, faults1 - faults0);
     }
 
+    /// <summary>
+    /// Runs every program once a round, in turn, so that all see the same load on a shared machine; a first round, not
+    /// counted, warms the disk cache. Per program: the wall times, CPU times and page faults of the counted rounds.
+    /// </summary>
+    public static (double[] Wall, double[] Cpu, double[] Faults)[] Rounds(IReadOnlyList<(string File, string[] Args)> programs, int repeat)
+    {
+        var runs = programs.Select(_ => (Wall: new double[repeat], Cpu: new double[repeat], Faults: new double[repeat])).ToArray();
+        for (int round = -1; round < repeat; round++)
+            for (int p = 0; p < programs.Count; p++)
+            {
+                var (wall, cpu, faults) = Process(programs[p].File, programs[p].Args);
+                if (round < 0) continue;
+                (runs[p].Wall[round], runs[p].Cpu[round], runs[p].Faults[round]) = (wall, cpu, faults);
+            }
+        return runs;
+    }
+
     /// <summary>The middle value (the upper of the two middle ones for an even count).</summary>
     public static double Median(IEnumerable<double> values)
     {
