@@ -1,4 +1,3 @@
-using System.Collections.Concurrent;
 using Decohere.Core;
 using Decohere.Scenarios;
 
@@ -20,10 +19,8 @@ public sealed class StageModels
     private readonly LinearModel[] _models;
     private readonly double[][] _occupancies;
     private readonly Dictionary<string, int> _index;
-    private readonly ConcurrentDictionary<ExactValues, LinearModel> _built = new();
-
-    // Models kept for reuse, at most; past it they are built per copy.
-    private const int MaxBuilt = 4096;
+    // At most this many models are kept for reuse; past it they are built per copy.
+    private readonly ExactMemo<LinearModel> _built = new(4096);
 
     /// <summary>Builds the template's models.</summary>
     public StageModels(Scenario template)
@@ -60,9 +57,14 @@ public sealed class StageModels
         for (int j = 0; j < modes; j++) inputs[j] = ModelBuilder.BathOccupancy(copy, copy.Modes[j], stageNow);
         for (int k = 0; k < tones; k++) inputs[modes + k] = stageNow.Tones[k].CouplingHz;
         inputs[^1] = stage;
-        var key = new ExactValues(inputs);
-        if (_built.TryGetValue(key, out var known)) return known;
+        return _built.GetOrAdd(inputs, () => Update(copy, stage, inputs));
+    }
 
+    // The template's system with the copy's occupancies (inputs[j]) and couplings redone, mapped to (A, D).
+    private LinearModel Update(Scenario copy, int stage, double[] inputs)
+    {
+        Stage stageNow = copy.Stages[stage], stageThen = _template.Stages[stage];
+        int modes = copy.Modes.Length, tones = stageNow.Tones.Length;
         QuadraticSystem? system = null;
         var before = _occupancies[stage];
         for (int j = 0; j < modes; j++)
@@ -74,9 +76,7 @@ public sealed class StageModels
             (system ??= _systems[stage].Copy()).ClearPair(a, b);
             ModelBuilder.AddBilinearTerms(copy, stageNow, system, _index, (x, y) => (x == a && y == b) || (x == b && y == a));
         }
-        var model = system?.ToLinearModel() ?? _models[stage];
-        if (_built.Count < MaxBuilt) _built.TryAdd(key, model);
-        return model;
+        return system?.ToLinearModel() ?? _models[stage];
     }
 
     private static bool Same(double x, double y) => BitConverter.DoubleToInt64Bits(x) == BitConverter.DoubleToInt64Bits(y);

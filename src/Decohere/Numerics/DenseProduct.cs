@@ -96,11 +96,22 @@ public static class DenseProduct
         return result;
     }
 
-    /// <summary>Overwrites the strict lower triangle of a square matrix with its upper one.</summary>
-    internal static void MirrorUpper(Matrix<double> m)
+    /// <summary>
+    /// X Y or X Yᵀ: MathNet's product below <see cref="MatrixExponential.BlockedMinDimension"/>, where packing costs more
+    /// than it saves, the blocked product from there on.
+    /// </summary>
+    internal static Matrix<double> Product(Matrix<double> x, Matrix<double> y, bool transposeY = false)
     {
-        double[] x = Dense(m);
-        int n = m.RowCount;
+        if (x.RowCount < MatrixExponential.BlockedMinDimension) return transposeY ? x.TransposeAndMultiply(y) : x * y;
+        return Multiply(x, y, transposeB: transposeY);
+    }
+
+    /// <summary>Overwrites the strict lower triangle of a square matrix with its upper one.</summary>
+    internal static void MirrorUpper(Matrix<double> m) => MirrorUpper(Dense(m), m.RowCount);
+
+    /// <summary>The same on a column-major n×n array.</summary>
+    internal static void MirrorUpper(double[] x, int n)
+    {
         for (int j = 0; j < n; j++)
         {
             for (int i = j + 1; i < n; i++) x[i + j * n] = x[j + i * n];

@@ -115,15 +115,8 @@ public static class Lyapunov
         ArgumentNullException.ThrowIfNull(d);
         Validation.RequireSameSize(a, v, nameof(a), nameof(v));
         Validation.RequireSameSize(a, d, nameof(a), nameof(d));
-        double numerator = Validation.FrobeniusNorm(Product(a, v, false) + Product(v, a, true) + d);
+        double numerator = Validation.FrobeniusNorm(DenseProduct.Product(a, v) + DenseProduct.Product(v, a, transposeY: true) + d);
         double denominator = 2 * Validation.FrobeniusNorm(a) * Validation.FrobeniusNorm(v) + Validation.FrobeniusNorm(d);
         return denominator == 0 ? 0 : numerator / denominator;
-    }
-
-    /// <summary>X Y or X Yᵀ, on the blocked product from <see cref="MatrixExponential.BlockedMinDimension"/> on.</summary>
-    private static Matrix<double> Product(Matrix<double> x, Matrix<double> y, bool transposeY)
-    {
-        if (x.RowCount < MatrixExponential.BlockedMinDimension) return transposeY ? x.TransposeAndMultiply(y) : x * y;
-        return DenseProduct.Multiply(x, y, transposeB: transposeY);
     }
 }

@@ -320,7 +320,7 @@ public sealed class LyapunovOperator
             DenseProduct.Multiply(n, n, n, 1.0, r, 0, n, false, z, 0, n, false, 0.0, rz, 0, n);
             double[] c = new double[n * n];
             DenseProduct.Multiply(n, n, n, -1.0, z, 0, n, true, rz, 0, n, false, 0.0, c, 0, n);
-            MirrorUpper(c, n);
+            DenseProduct.MirrorUpper(c, n);
             int perturbed = QuasiTriangularLyapunov.Solve(schur.T, schur.BlockStarts, c, n);
             if (perturbed > 0)
             {
@@ -333,17 +333,9 @@ public sealed class LyapunovOperator
             DenseProduct.Multiply(n, n, n, 1.0, z, 0, n, false, c, 0, n, false, 0.0, zy, 0, n);
             double[] v = new double[n * n];
             DenseProduct.Multiply(n, n, n, 1.0, zy, 0, n, false, z, 0, n, true, 0.0, v, 0, n);
-            MirrorUpper(v, n);
+            DenseProduct.MirrorUpper(v, n);
             return v;
         };
-    }
-
-    private static void MirrorUpper(double[] x, int n)
-    {
-        for (int j = 0; j < n; j++)
-        {
-            for (int i = j + 1; i < n; i++) x[i + j * n] = x[j + i * n];
-        }
     }
 
     /// <summary>
@@ -446,7 +438,7 @@ public sealed class LyapunovOperator
         for (int k = 0; k < MaxDoublings; k++)
         {
             powers.Add(phi);
-            Matrix<double> next = Product(phi, phi);
+            Matrix<double> next = DenseProduct.Product(phi, phi);
             // Tail after this term is Φ_{k+1} V Φ_{k+1}ᵀ, bounded by ‖Φ_{k+1}‖_F² ‖V‖.
             double tail = Validation.FrobeniusNorm(next);
             if (tail * tail <= 1e-18) break;
@@ -467,7 +459,4 @@ public sealed class LyapunovOperator
             return v.ToColumnMajorArray();
         };
     }
-
-    private static Matrix<double> Product(Matrix<double> x, Matrix<double> y) =>
-        x.RowCount < MatrixExponential.BlockedMinDimension ? x * y : DenseProduct.Multiply(x, y);
 }

@@ -177,7 +177,7 @@ public static class MatrixExponential
         public override Matrix<double> Identity() => Matrix<double>.Build.DenseIdentity(n);
 
         public override Matrix<double> Multiply(Matrix<double> x, Matrix<double> y)
-            => n < BlockedMinDimension ? x.Multiply(y) : DenseProduct.Multiply(x, y);
+            => DenseProduct.Product(x, y);
 
         public override Matrix<double> Combine(double identity, params ReadOnlySpan<(double Coefficient, Matrix<double> Term)> terms)
             => CombineDense(n, identity, terms);

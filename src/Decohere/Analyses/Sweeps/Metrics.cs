@@ -1,4 +1,3 @@
-using System.Collections.Concurrent;
 using System.Collections.Immutable;
 using System.Globalization;
 using Decohere.Analyses.Lifetime;
@@ -124,10 +123,8 @@ public sealed class SweepPoint
 /// </summary>
 internal sealed class SweepTemplate(Scenario template)
 {
-    // Distinct drifts kept at most; past it, a point's drift is analysed for that point alone.
-    private const int MaxDrifts = 4096;
-
-    private readonly ConcurrentDictionary<ExactValues, AnalysedDrift> _drifts = new();
+    // At most this many distinct drifts are kept; past it, a point's drift is analysed for that point alone.
+    private readonly ExactMemo<AnalysedDrift> _drifts = new(4096);
 
     /// <summary>The template's models, and the fast path to each point's.</summary>
     public StageModels Models { get; } = new(template);
@@ -138,14 +135,8 @@ internal sealed class SweepTemplate(Scenario template)
     public bool StartsSteady(Scenario point) => ReferenceEquals(point.Initial, template.Initial) ? _startsSteady : SweepPoint.StartsSteady(point);
 
     /// <summary>The analysed drift (a race analyses the same drift twice; either copy serves).</summary>
-    public AnalysedDrift Drift(Matrix<double> drift)
-    {
-        var key = new ExactValues(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray());
-        if (_drifts.TryGetValue(key, out var known)) return known;
-        var analysed = new AnalysedDrift(LyapunovOperator.Of(drift));
-        if (_drifts.Count < MaxDrifts) _drifts.TryAdd(key, analysed);
-        return analysed;
-    }
+    public AnalysedDrift Drift(Matrix<double> drift) =>
+        _drifts.GetOrAdd(drift.AsColumnMajorArray() ?? drift.ToColumnMajorArray(), () => new AnalysedDrift(LyapunovOperator.Of(drift)));
 }
 
 /// <summary>A stage's drift analysed: its Lyapunov operator and the stability read from it.</summary>
